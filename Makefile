@@ -5,7 +5,7 @@ BUF_VERSION             := v1.75.0
 PROTOC_GEN_GO_VERSION   := v1.36.12
 PROTOC_GEN_GRPC_VERSION := v1.6.0
 
-.PHONY: build test proto proto-check lint demo tools
+.PHONY: build test unit fuzz proto proto-check demo tools bench
 
 build:
 	$(GO) build -o bin/phasebound ./cmd/phasebound
@@ -27,3 +27,18 @@ proto: tools
 # proto-check fails when regeneration would change the tree.
 proto-check: proto
 	git diff --exit-code -- proto plugins/sdk/internal/pluginpb
+
+# test runs every test: vet, unit and end-to-end tests with the race
+# detector, then each fuzz target briefly.
+test: build
+	$(GO) vet ./...
+	$(GO) test -race -count=1 -timeout 25m ./...
+	scripts/fuzz.sh 4
+
+# demo builds, starts a server on loopback with the embedded catalog, runs
+# the demo scenario against it, prints the report, and stops the server.
+demo: build
+	scripts/demo.sh
+
+bench: build
+	bin/phasebound bench
