@@ -1376,8 +1376,10 @@ type EvaluateResponse struct {
 	Exact bool `protobuf:"varint,13,opt,name=exact,proto3" json:"exact,omitempty"`
 	// Largest measured table error among the branches used (0 for exact).
 	TableMaxRelError float64 `protobuf:"fixed64,14,opt,name=table_max_rel_error,json=tableMaxRelError,proto3" json:"table_max_rel_error,omitempty"`
-	unknownFields    protoimpl.UnknownFields
-	sizeCache        protoimpl.SizeCache
+	// Version of the catalog that answered (see ListSubstancesResponse).
+	CatalogVersion string `protobuf:"bytes,15,opt,name=catalog_version,json=catalogVersion,proto3" json:"catalog_version,omitempty"`
+	unknownFields  protoimpl.UnknownFields
+	sizeCache      protoimpl.SizeCache
 }
 
 func (x *EvaluateResponse) Reset() {
@@ -1506,6 +1508,13 @@ func (x *EvaluateResponse) GetTableMaxRelError() float64 {
 		return x.TableMaxRelError
 	}
 	return 0
+}
+
+func (x *EvaluateResponse) GetCatalogVersion() string {
+	if x != nil {
+		return x.CatalogVersion
+	}
+	return ""
 }
 
 // EvaluateStreamRequest is one chunk of a streamed batch.
@@ -1694,8 +1703,10 @@ type LocatePhaseResponse struct {
 	BoundaryNames        []string      `protobuf:"bytes,7,rep,name=boundary_names,json=boundaryNames,proto3" json:"boundary_names,omitempty"`
 	Status               []PointStatus `protobuf:"varint,8,rep,packed,name=status,proto3,enum=phasebound.v1.PointStatus" json:"status,omitempty"`
 	Errors               []*PointError `protobuf:"bytes,9,rep,name=errors,proto3" json:"errors,omitempty"`
-	unknownFields        protoimpl.UnknownFields
-	sizeCache            protoimpl.SizeCache
+	// Version of the catalog that answered (see ListSubstancesResponse).
+	CatalogVersion string `protobuf:"bytes,10,opt,name=catalog_version,json=catalogVersion,proto3" json:"catalog_version,omitempty"`
+	unknownFields  protoimpl.UnknownFields
+	sizeCache      protoimpl.SizeCache
 }
 
 func (x *LocatePhaseResponse) Reset() {
@@ -1789,6 +1800,13 @@ func (x *LocatePhaseResponse) GetErrors() []*PointError {
 		return x.Errors
 	}
 	return nil
+}
+
+func (x *LocatePhaseResponse) GetCatalogVersion() string {
+	if x != nil {
+		return x.CatalogVersion
+	}
+	return ""
 }
 
 // ChebyshevTable is a piecewise Chebyshev interpolant y(x) in transformed
@@ -2282,7 +2300,7 @@ const file_phasebound_v1_phasebound_proto_rawDesc = "" +
 	"\x06status\x18\x02 \x01(\x0e2\x1a.phasebound.v1.PointStatusR\x06status\x12\x18\n" +
 	"\amessage\x18\x03 \x01(\tR\amessage\x12\x1b\n" +
 	"\tvalid_min\x18\x04 \x01(\x01R\bvalidMin\x12\x1b\n" +
-	"\tvalid_max\x18\x05 \x01(\x01R\bvalidMax\"\xa0\x05\n" +
+	"\tvalid_max\x18\x05 \x01(\x01R\bvalidMax\"\xc9\x05\n" +
 	"\x10EvaluateResponse\x12#\n" +
 	"\rtemperature_k\x18\x01 \x03(\x01R\ftemperatureK\x12\x1f\n" +
 	"\vpressure_pa\x18\x02 \x03(\x01R\n" +
@@ -2300,7 +2318,8 @@ const file_phasebound_v1_phasebound_proto_rawDesc = "" +
 	"\x1evolume_high_t_phase_m3_per_mol\x18\v \x03(\x01R\x18volumeHighTPhaseM3PerMol\x12M\n" +
 	"\x12latent_heat_source\x18\f \x03(\x0e2\x1f.phasebound.v1.LatentHeatSourceR\x10latentHeatSource\x12\x14\n" +
 	"\x05exact\x18\r \x01(\bR\x05exact\x12-\n" +
-	"\x13table_max_rel_error\x18\x0e \x01(\x01R\x10tableMaxRelError\"Q\n" +
+	"\x13table_max_rel_error\x18\x0e \x01(\x01R\x10tableMaxRelError\x12'\n" +
+	"\x0fcatalog_version\x18\x0f \x01(\tR\x0ecatalogVersion\"Q\n" +
 	"\x15EvaluateStreamRequest\x128\n" +
 	"\arequest\x18\x01 \x01(\v2\x1e.phasebound.v1.EvaluateRequestR\arequest\"m\n" +
 	"\x16EvaluateStreamResponse\x12;\n" +
@@ -2311,7 +2330,7 @@ const file_phasebound_v1_phasebound_proto_rawDesc = "" +
 	"\rtemperature_k\x18\x02 \x03(\x01R\ftemperatureK\x12\x1f\n" +
 	"\vpressure_pa\x18\x03 \x03(\x01R\n" +
 	"pressurePa\x12\x16\n" +
-	"\x06strict\x18\x04 \x01(\bR\x06strict\"\xa3\x03\n" +
+	"\x06strict\x18\x04 \x01(\bR\x06strict\"\xcc\x03\n" +
 	"\x13LocatePhaseResponse\x12*\n" +
 	"\x05phase\x18\x01 \x03(\x0e2\x14.phasebound.v1.PhaseR\x05phase\x12\x1d\n" +
 	"\n" +
@@ -2323,7 +2342,9 @@ const file_phasebound_v1_phasebound_proto_rawDesc = "" +
 	"\x16nearest_boundary_index\x18\x06 \x03(\rR\x14nearestBoundaryIndex\x12%\n" +
 	"\x0eboundary_names\x18\a \x03(\tR\rboundaryNames\x122\n" +
 	"\x06status\x18\b \x03(\x0e2\x1a.phasebound.v1.PointStatusR\x06status\x121\n" +
-	"\x06errors\x18\t \x03(\v2\x19.phasebound.v1.PointErrorR\x06errors\"\xaa\x02\n" +
+	"\x06errors\x18\t \x03(\v2\x19.phasebound.v1.PointErrorR\x06errors\x12'\n" +
+	"\x0fcatalog_version\x18\n" +
+	" \x01(\tR\x0ecatalogVersion\"\xaa\x02\n" +
 	"\x0eChebyshevTable\x129\n" +
 	"\vx_transform\x18\x01 \x01(\x0e2\x18.phasebound.v1.TransformR\n" +
 	"xTransform\x129\n" +
