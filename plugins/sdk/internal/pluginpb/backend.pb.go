@@ -300,8 +300,12 @@ type EvaluateRequest struct {
 	Values          []float64               `protobuf:"fixed64,6,rep,packed,name=values,proto3" json:"values,omitempty"`
 	// Evaluate outside the validity range instead of failing the point.
 	AllowExtrapolation bool `protobuf:"varint,7,opt,name=allow_extrapolation,json=allowExtrapolation,proto3" json:"allow_extrapolation,omitempty"`
-	unknownFields      protoimpl.UnknownFields
-	sizeCache          protoimpl.SizeCache
+	// For OPERATION_VOLUME: the coexistence pressure in Pa at each temperature,
+	// index-aligned with values. Empty when the volume form ignores pressure
+	// (then 0 is passed to it).
+	Pressures     []float64 `protobuf:"fixed64,8,rep,packed,name=pressures,proto3" json:"pressures,omitempty"`
+	unknownFields protoimpl.UnknownFields
+	sizeCache     protoimpl.SizeCache
 }
 
 func (x *EvaluateRequest) Reset() {
@@ -381,6 +385,13 @@ func (x *EvaluateRequest) GetAllowExtrapolation() bool {
 		return x.AllowExtrapolation
 	}
 	return false
+}
+
+func (x *EvaluateRequest) GetPressures() []float64 {
+	if x != nil {
+		return x.Pressures
+	}
+	return nil
 }
 
 // PointFailure explains one failed point.
@@ -553,7 +564,7 @@ const file_phasebound_plugin_v1_backend_proto_rawDesc = "" +
 	"\x0ecurve_families\x18\x03 \x03(\tR\rcurveFamilies\x12'\n" +
 	"\x0fvolume_families\x18\x04 \x03(\tR\x0evolumeFamilies\"%\n" +
 	"\vParamValues\x12\x16\n" +
-	"\x06values\x18\x01 \x03(\x01R\x06values\"\xb2\x03\n" +
+	"\x06values\x18\x01 \x03(\x01R\x06values\"\xd0\x03\n" +
 	"\x0fEvaluateRequest\x12\x16\n" +
 	"\x06family\x18\x01 \x01(\tR\x06family\x12I\n" +
 	"\x06params\x18\x02 \x03(\v21.phasebound.plugin.v1.EvaluateRequest.ParamsEntryR\x06params\x12*\n" +
@@ -561,7 +572,8 @@ const file_phasebound_plugin_v1_backend_proto_rawDesc = "" +
 	"\x11max_temperature_k\x18\x04 \x01(\x01R\x0fmaxTemperatureK\x12=\n" +
 	"\toperation\x18\x05 \x01(\x0e2\x1f.phasebound.plugin.v1.OperationR\toperation\x12\x16\n" +
 	"\x06values\x18\x06 \x03(\x01R\x06values\x12/\n" +
-	"\x13allow_extrapolation\x18\a \x01(\bR\x12allowExtrapolation\x1a\\\n" +
+	"\x13allow_extrapolation\x18\a \x01(\bR\x12allowExtrapolation\x12\x1c\n" +
+	"\tpressures\x18\b \x03(\x01R\tpressures\x1a\\\n" +
 	"\vParamsEntry\x12\x10\n" +
 	"\x03key\x18\x01 \x01(\tR\x03key\x127\n" +
 	"\x05value\x18\x02 \x01(\v2!.phasebound.plugin.v1.ParamValuesR\x05value:\x028\x01\"\xaf\x01\n" +
