@@ -141,7 +141,9 @@ func (s *Security) Reload() error {
 func (s *Security) TLS() bool { return s.tls != nil }
 
 // MutualTLS reports whether clients must present a certificate.
-func (s *Security) MutualTLS() bool { return s.tls != nil && s.tls.ClientAuth == tls.RequireAndVerifyClientCert }
+func (s *Security) MutualTLS() bool {
+	return s.tls != nil && s.tls.ClientAuth == tls.RequireAndVerifyClientCert
+}
 
 // TokenRequired reports whether calls must carry the bearer token.
 func (s *Security) TokenRequired() bool { return s.token.Load() != nil }
