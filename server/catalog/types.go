@@ -14,6 +14,10 @@ type Catalog struct {
 	Source string
 	// Version is the hex SHA-256 of the catalog's bytes (of all files merged).
 	Version string
+
+	// raw is the text the catalog was read from (the concatenation, in
+	// order, for a merged catalog); nil for a catalog built in code.
+	raw []byte
 }
 
 // Backend is a third-party backend executable.

@@ -1,0 +1,87 @@
+package catalog
+
+import (
+	"embed"
+	"errors"
+	"fmt"
+	"io/fs"
+	"path"
+	"slices"
+	"sort"
+	"sync"
+)
+
+//go:embed default/*.toml
+var defaultFS embed.FS
+
+// defaultOrder fixes the order of the embedded files; files not named here
+// follow in name order.
+var defaultOrder = []string{"water.toml", "carbon-dioxide.toml", "demo.toml"}
+
+// DefaultSource is the Source of the embedded default catalog.
+const DefaultSource = "embedded default"
+
+var defaultCatalog = sync.OnceValues(loadDefault)
+
+// Default returns the embedded default catalog: water, carbon dioxide and
+// the invented substances of the demo scenario. It is parsed once and
+// shared; callers must not modify it. An error means the embedded data is
+// broken, which the package's tests catch.
+func Default() (*Catalog, error) { return defaultCatalog() }
+
+func loadDefault() (*Catalog, error) {
+	entries, err := fs.ReadDir(defaultFS, "default")
+	if err != nil {
+		return nil, fmt.Errorf("catalog: embedded default: %w", err)
+	}
+	names := make([]string, 0, len(entries))
+	for _, e := range entries {
+		names = append(names, e.Name())
+	}
+	sort.Slice(names, func(i, j int) bool {
+		ri, rj := rank(names[i]), rank(names[j])
+		if ri != rj {
+			return ri < rj
+		}
+		return names[i] < names[j]
+	})
+	var c *Catalog
+	for _, name := range names {
+		data, err := defaultFS.ReadFile(path.Join("default", name))
+		if err != nil {
+			return nil, fmt.Errorf("catalog: embedded default: %w", err)
+		}
+		f, err := parseFile(path.Join("default", name), data, "")
+		if err != nil {
+			return nil, fmt.Errorf("catalog: embedded default: %w", err)
+		}
+		if f.includeDefault {
+			return nil, fmt.Errorf("catalog: embedded default: %s must not set include_default", name)
+		}
+		if len(f.refs) > 0 {
+			return nil, fmt.Errorf("catalog: embedded default: %w", f.refs[0].err)
+		}
+		if c == nil {
+			c = f.cat
+		} else {
+			for _, sub := range f.cat.Substances {
+				if c.Lookup(sub.ID) != nil {
+					return nil, fmt.Errorf("catalog: embedded default: %s:%d: substance %q is defined in two embedded files", name, sub.Line, sub.ID)
+				}
+			}
+			c = Merge(c, f.cat)
+		}
+	}
+	if c == nil {
+		return nil, errors.New("catalog: embedded default: no catalog files")
+	}
+	c.Source = DefaultSource
+	return c, nil
+}
+
+func rank(name string) int {
+	if i := slices.Index(defaultOrder, name); i >= 0 {
+		return i
+	}
+	return len(defaultOrder)
+}
