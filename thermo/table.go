@@ -1,0 +1,867 @@
+package thermo
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"sort"
+)
+
+// DefaultTableTolerance is the maximum relative error a table is built to
+// when TableOptions.Tolerance is zero.
+const DefaultTableTolerance = 1e-11
+
+// Table building limits and defaults.
+const (
+	// DefaultTableNodes is the number of interpolation nodes per segment
+	// (polynomial degree + 1) when TableOptions.Nodes is zero.
+	DefaultTableNodes = 16
+	// DefaultTableMaxSegments caps the segments of one table when
+	// TableOptions.MaxSegments is zero.
+	DefaultTableMaxSegments = 2048
+	// TableCheckDensity is the number of check intervals per interpolation
+	// node: a segment with n nodes is checked at 4n+1 points (see BuildTable).
+	TableCheckDensity = 4
+
+	maxTableNodes        = 64
+	maxTableCoeffs       = 1 << 22 // a loaded table may hold at most this many coefficients
+	maxTableBins         = 4096    // size cap of the uniform segment index
+	tableTruncateShare   = 0.1     // share of the tolerance spent on dropping trailing coefficients
+	tableBreakTolerance  = 1e-9    // relative mismatch allowed between Breaks ends and the transformed XMin/XMax
+	tableMinRelSegWidth  = 1e-13   // a segment narrower than this (relative to |u|) is not split further
+	tableMaxSampleRounds = 200
+)
+
+// Transform maps a raw variable before interpolation. The values are those
+// of proto enum phasebound.v1.Transform, so a conversion is a type cast.
+type Transform int32
+
+// Transforms of a table's variables.
+const (
+	TransformIdentity   Transform = 1 // u = x
+	TransformLog        Transform = 2 // u = ln x; x > 0
+	TransformReciprocal Transform = 3 // u = 1/x; x ≠ 0
+)
+
+// String returns "identity", "log" or "reciprocal".
+func (f Transform) String() string {
+	switch f {
+	case TransformIdentity:
+		return "identity"
+	case TransformLog:
+		return "log"
+	case TransformReciprocal:
+		return "reciprocal"
+	}
+	return fmt.Sprintf("Transform(%d)", int32(f))
+}
+
+func (f Transform) valid() bool {
+	return f == TransformIdentity || f == TransformLog || f == TransformReciprocal
+}
+
+func (f Transform) forward(x float64) float64 {
+	switch f {
+	case TransformLog:
+		return math.Log(x)
+	case TransformReciprocal:
+		return 1 / x
+	}
+	return x
+}
+
+func (f Transform) inverse(u float64) float64 {
+	switch f {
+	case TransformLog:
+		return math.Exp(u)
+	case TransformReciprocal:
+		return 1 / u
+	}
+	return u
+}
+
+// accepts reports whether x is in the transform's domain.
+func (f Transform) accepts(x float64) bool {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return false
+	}
+	switch f {
+	case TransformLog:
+		return x > 0
+	case TransformReciprocal:
+		return x != 0
+	}
+	return true
+}
+
+// TableData is the exported representation of a Table. It maps field for
+// field onto proto message phasebound.v1.ChebyshevTable:
+//
+//	XTransform, YTransform ↔ x_transform, y_transform
+//	Breaks                 ↔ breaks
+//	Offsets                ↔ offsets
+//	Coeffs                 ↔ coefficients
+//	XMin, XMax             ↔ x_min, x_max
+//	MaxRelError            ↔ max_rel_error
+//
+// With u = XTransform(x) and Y = YTransform(y), segment i covers
+// Breaks[i] ≤ u ≤ Breaks[i+1] and there
+//
+//	Y(u) = Σ_{k=0}^{m-1} c_k·T_k(s),   s = (2u − Breaks[i] − Breaks[i+1]) / (Breaks[i+1] − Breaks[i])
+//
+// where c = Coeffs[Offsets[i]:Offsets[i+1]] (c_0 is not halved) and T_k are
+// the Chebyshev polynomials of the first kind. len(Offsets) = len(Breaks),
+// Offsets[0] = 0 and the last offset is len(Coeffs).
+type TableData struct {
+	XTransform, YTransform Transform
+	Breaks                 []float64
+	Offsets                []uint32
+	Coeffs                 []float64
+	XMin, XMax             float64 // raw domain of x (K or Pa)
+	MaxRelError            float64 // measured maximum relative error against the source
+}
+
+// TableOptions controls BuildTable. The zero value builds an
+// identity/identity table to DefaultTableTolerance.
+type TableOptions struct {
+	// XTransform and YTransform; zero means TransformIdentity for
+	// BuildTable (BuildPressureTable and BuildTemperatureTable choose
+	// their own defaults, see there).
+	XTransform, YTransform Transform
+	// Tolerance is the maximum relative error allowed on the check grid;
+	// zero means DefaultTableTolerance. Must lie in [1e-15, 0.1].
+	Tolerance float64
+	// Nodes is the number of Chebyshev nodes per segment (degree + 1);
+	// zero means DefaultTableNodes. Must lie in [4, 64].
+	Nodes int
+	// MaxSegments caps the number of segments; zero means
+	// DefaultTableMaxSegments.
+	MaxSegments int
+	// Quantity and Unit name x in errors ("temperature", "K"); zero means
+	// "x" and no unit.
+	Quantity, Unit string
+}
+
+// SampleFunc evaluates the source of a table at a batch of raw abscissae:
+// it must fill y[i] = f(x[i]) for every i (len(y) = len(x)), or return an
+// error. Batches let a source behind a process boundary (a backend plugin)
+// answer many points per call.
+type SampleFunc func(x, y []float64) error
+
+// ToleranceError reports that a table could not meet its tolerance within
+// the segment cap (or the segment width reached floating-point
+// resolution). Best is the best table that was built; it is usable, with
+// Best.MaxRelError the measured error.
+type ToleranceError struct {
+	Tolerance float64 // requested
+	Achieved  float64 // best measured maximum relative error
+	Segments  int     // segments of Best
+	Best      *Table
+}
+
+func (e *ToleranceError) Error() string {
+	return fmt.Sprintf("thermo: table tolerance %g not met: best measured relative error %g with %d segments",
+		e.Tolerance, e.Achieved, e.Segments)
+}
+
+// Table is a compiled piecewise Chebyshev interpolant y(x) in transformed
+// variables. It is immutable and safe for concurrent use; Eval allocates
+// nothing.
+type Table struct {
+	xt, yt     Transform
+	breaks     []float64
+	offsets    []uint32
+	coeffs     []float64
+	invWidth   []float64 // 1/(breaks[i+1]−breaks[i])
+	xmin, xmax float64
+	maxRel     float64
+
+	// Uniform index over [breaks[0], breaks[n]]: bins[j] is the segment
+	// holding u0 + j/binScale.
+	u0, binScale float64
+	bins         []int32
+
+	quantity, unit string
+}
+
+// BuildTable compiles the source y(x), sampled through sample, over
+// [xmin, xmax] into a piecewise Chebyshev table.
+//
+// Each segment interpolates Y(u) at n Chebyshev nodes of the first kind
+// (n = opts.Nodes), drops trailing coefficients whose summed magnitude is
+// below a tenth of the tolerance, and is then checked against the source
+// on a grid of 4n+1 points s_j = cos(π·j/(4n)), j = 0…4n: both segment ends
+// and three points between each pair of neighbouring nodes. A segment whose
+// maximum relative error in raw y, |ŷ − y|/|y| (absolute where y = 0),
+// exceeds the tolerance is split in half in u, and the halves are tried
+// again. Every segment of a round is sampled in one call of sample.
+//
+// The returned table's MaxRelError is the maximum measured over all
+// check grids. When the tolerance cannot be met within opts.MaxSegments
+// the error is a *ToleranceError carrying the best table.
+func BuildTable(sample SampleFunc, xmin, xmax float64, opts TableOptions) (*Table, error) {
+	if sample == nil {
+		return nil, fmt.Errorf("%w: table source is nil", ErrBadParam)
+	}
+	o, err := tableDefaults(opts)
+	if err != nil {
+		return nil, err
+	}
+	if !(xmin < xmax) || math.IsInf(xmin, 0) || math.IsInf(xmax, 0) {
+		return nil, fmt.Errorf("%w: table domain [%g, %g] must be finite with min < max", ErrBadParam, xmin, xmax)
+	}
+	if !o.XTransform.accepts(xmin) || !o.XTransform.accepts(xmax) || (o.XTransform == TransformReciprocal && xmin < 0 && xmax > 0) {
+		return nil, fmt.Errorf("%w: table domain [%g, %g] is outside the domain of the %v transform", ErrBadParam, xmin, xmax, o.XTransform)
+	}
+	b := tableBuilder{sample: sample, o: o, xmin: xmin, xmax: xmax}
+	return b.build()
+}
+
+func tableDefaults(o TableOptions) (TableOptions, error) {
+	if o.XTransform == 0 {
+		o.XTransform = TransformIdentity
+	}
+	if o.YTransform == 0 {
+		o.YTransform = TransformIdentity
+	}
+	if !o.XTransform.valid() || !o.YTransform.valid() {
+		return o, fmt.Errorf("%w: table transforms %v/%v (valid: identity, log, reciprocal)", ErrBadParam, o.XTransform, o.YTransform)
+	}
+	if o.Tolerance == 0 {
+		o.Tolerance = DefaultTableTolerance
+	}
+	if !(o.Tolerance >= 1e-15 && o.Tolerance <= 0.1) {
+		return o, fmt.Errorf("%w: table tolerance %g outside [1e-15, 0.1]", ErrBadParam, o.Tolerance)
+	}
+	if o.Nodes == 0 {
+		o.Nodes = DefaultTableNodes
+	}
+	if o.Nodes < 4 || o.Nodes > maxTableNodes {
+		return o, fmt.Errorf("%w: table nodes per segment %d outside [4, %d]", ErrBadParam, o.Nodes, maxTableNodes)
+	}
+	if o.MaxSegments == 0 {
+		o.MaxSegments = DefaultTableMaxSegments
+	}
+	if o.MaxSegments < 1 || o.MaxSegments > 1<<16 {
+		return o, fmt.Errorf("%w: table segment cap %d outside [1, 65536]", ErrBadParam, o.MaxSegments)
+	}
+	if o.Quantity == "" {
+		o.Quantity = "x"
+	}
+	return o, nil
+}
+
+// tableSegment is one segment under construction.
+type tableSegment struct {
+	a, b   float64 // transformed interval
+	coeffs []float64
+	err    float64 // measured maximum relative error
+}
+
+type tableBuilder struct {
+	sample     SampleFunc
+	o          TableOptions
+	xmin, xmax float64
+}
+
+// rawX maps a transformed abscissa back to x, kept inside [xmin, xmax] so
+// that rounding never asks the source outside its range.
+func (b *tableBuilder) rawX(u float64) float64 {
+	x := b.o.XTransform.inverse(u)
+	return math.Min(math.Max(x, b.xmin), b.xmax)
+}
+
+func (b *tableBuilder) build() (*Table, error) {
+	n := b.o.Nodes
+	nc := TableCheckDensity*n + 1
+	ua, ub := b.o.XTransform.forward(b.xmin), b.o.XTransform.forward(b.xmax)
+	if ua > ub {
+		ua, ub = ub, ua
+	}
+	// Node positions and the cosine matrix of the discrete Chebyshev transform.
+	nodes := make([]float64, n)
+	for k := range nodes {
+		nodes[k] = math.Cos(math.Pi * (float64(k) + 0.5) / float64(n))
+	}
+	checks := make([]float64, nc)
+	for j := range checks {
+		checks[j] = math.Cos(math.Pi * float64(j) / float64(nc-1))
+	}
+	cosm := make([]float64, n*n)
+	for j := 0; j < n; j++ {
+		for k := 0; k < n; k++ {
+			cosm[j*n+k] = math.Cos(math.Pi * float64(j) * (float64(k) + 0.5) / float64(n))
+		}
+	}
+
+	pending := []tableSegment{{a: ua, b: ub}}
+	var done []tableSegment
+	var failed []tableSegment // segments that could not be split further
+	per := n + nc
+	var xs, ys []float64
+	for round := 0; len(pending) > 0; round++ {
+		if round >= tableMaxSampleRounds {
+			failed = append(failed, pending...)
+			break
+		}
+		xs = xs[:0]
+		for _, s := range pending {
+			for _, v := range nodes {
+				xs = append(xs, b.rawX(tableUAt(s.a, s.b, v)))
+			}
+			for j, v := range checks {
+				switch {
+				case j == 0 && s.b == ub:
+					xs = append(xs, b.endX(ub))
+				case j == nc-1 && s.a == ua:
+					xs = append(xs, b.endX(ua))
+				default:
+					xs = append(xs, b.rawX(tableUAt(s.a, s.b, v)))
+				}
+			}
+		}
+		if cap(ys) < len(xs) {
+			ys = make([]float64, len(xs))
+		}
+		ys = ys[:len(xs)]
+		if err := b.sample(xs, ys); err != nil {
+			return nil, fmt.Errorf("thermo: sampling table source: %w", err)
+		}
+		for i, y := range ys {
+			if !b.o.YTransform.accepts(y) {
+				return nil, fmt.Errorf("%w: table source gave y = %g at %s = %g, outside the domain of the %v transform",
+					ErrBadParam, y, b.o.Quantity, xs[i], b.o.YTransform)
+			}
+		}
+		var next []tableSegment
+		for si := range pending {
+			s := &pending[si]
+			xv := xs[si*per : (si+1)*per]
+			yv := ys[si*per : (si+1)*per]
+			b.fit(s, xv[:n], yv[:n], cosm)
+			s.err = b.measure(s, xv[n:], yv[n:])
+			if s.err <= b.o.Tolerance {
+				done = append(done, *s)
+				continue
+			}
+			mid := 0.5 * (s.a + s.b)
+			tooNarrow := !(mid > s.a && mid < s.b) || (s.b-s.a) <= tableMinRelSegWidth*math.Max(math.Abs(s.a), math.Abs(s.b))
+			if tooNarrow || len(done)+len(failed)+len(next)+len(pending)-si+1 > b.o.MaxSegments {
+				failed = append(failed, *s)
+				continue
+			}
+			next = append(next, tableSegment{a: s.a, b: mid}, tableSegment{a: mid, b: s.b})
+		}
+		pending = next
+	}
+	all := append(done, failed...)
+	sort.Slice(all, func(i, j int) bool { return all[i].a < all[j].a })
+	d := TableData{XTransform: b.o.XTransform, YTransform: b.o.YTransform, XMin: b.xmin, XMax: b.xmax}
+	d.Breaks = make([]float64, 0, len(all)+1)
+	d.Offsets = make([]uint32, 0, len(all)+1)
+	d.Breaks = append(d.Breaks, all[0].a)
+	d.Offsets = append(d.Offsets, 0)
+	for _, s := range all {
+		d.MaxRelError = math.Max(d.MaxRelError, s.err)
+		d.Coeffs = append(d.Coeffs, s.coeffs...)
+		d.Breaks = append(d.Breaks, s.b)
+		d.Offsets = append(d.Offsets, uint32(len(d.Coeffs)))
+	}
+	t, err := newTable(d, b.o.Quantity, b.o.Unit)
+	if err != nil {
+		return nil, fmt.Errorf("thermo: internal error assembling table: %w", err)
+	}
+	if len(failed) > 0 {
+		return nil, &ToleranceError{Tolerance: b.o.Tolerance, Achieved: d.MaxRelError, Segments: len(all), Best: t}
+	}
+	return t, nil
+}
+
+// endX returns the raw x at a global end of the transformed domain exactly.
+func (b *tableBuilder) endX(u float64) float64 {
+	ua := b.o.XTransform.forward(b.xmin)
+	if u == ua {
+		return b.xmin
+	}
+	return b.xmax
+}
+
+// tableUAt maps s ∈ [−1, 1] onto [a, b].
+func tableUAt(a, b, s float64) float64 {
+	return 0.5*(a+b) + 0.5*(b-a)*s
+}
+
+// fit computes the Chebyshev coefficients of segment s from the source
+// values y at the abscissae x and drops negligible trailing coefficients.
+//
+// The abscissae are the Chebyshev nodes rounded to float64 (and passed
+// through the x transform and its inverse); on a steep curve the rounding
+// alone moves y by more than the tolerance (near water's triple point the
+// ice-Ih melting pressure changes by ~1e-9 relative per ulp of T). So the
+// discrete Chebyshev transform gives a first guess, and two steps of
+// iterative refinement make the polynomial interpolate the samples at the
+// positions s_k that Eval will compute for those x, not at the ideal nodes.
+func (b *tableBuilder) fit(s *tableSegment, x, y []float64, cosm []float64) {
+	n := len(y)
+	yt := make([]float64, n)
+	sk := make([]float64, n)
+	inv := 1 / (s.b - s.a)
+	scale := math.Inf(1)
+	for k, v := range y {
+		yt[k] = b.o.YTransform.forward(v)
+		scale = math.Min(scale, math.Abs(yt[k]))
+		u := b.o.XTransform.forward(x[k])
+		sk[k] = ((u - s.a) - (s.b - u)) * inv
+	}
+	if b.o.YTransform == TransformLog {
+		scale = 1 // an absolute error in ln y is a relative error in y
+	}
+	c := make([]float64, n)
+	r := append([]float64(nil), yt...)
+	for iter := 0; iter < 3; iter++ {
+		for j := 0; j < n; j++ {
+			var sum float64
+			for k := 0; k < n; k++ {
+				sum += r[k] * cosm[j*n+k]
+			}
+			if j == 0 {
+				c[j] += sum / float64(n)
+			} else {
+				c[j] += 2 * sum / float64(n)
+			}
+		}
+		for k := range r {
+			v, _ := chebValueSlope(c, sk[k])
+			r[k] = yt[k] - v
+		}
+	}
+	budget := tableTruncateShare * b.o.Tolerance * scale
+	m := n
+	var dropped float64
+	for m > 2 && dropped+math.Abs(c[m-1]) <= budget {
+		dropped += math.Abs(c[m-1])
+		m--
+	}
+	s.coeffs = c[:m:m]
+}
+
+// measure returns the maximum relative error of segment s on its check grid.
+func (b *tableBuilder) measure(s *tableSegment, x, y []float64) float64 {
+	inv := 1 / (s.b - s.a)
+	var worst float64
+	for i, xv := range x {
+		u := b.o.XTransform.forward(xv)
+		yy, _ := chebValueSlope(s.coeffs, ((u-s.a)-(s.b-u))*inv)
+		got := b.o.YTransform.inverse(yy)
+		e := math.Abs(got - y[i])
+		if y[i] != 0 {
+			e /= math.Abs(y[i])
+		}
+		if !(e <= worst) { // also propagates NaN
+			worst = e
+			if math.IsNaN(e) {
+				return math.Inf(1)
+			}
+		}
+	}
+	return worst
+}
+
+// chebValueSlope returns Σ c_k T_k(s) and its derivative with respect to s.
+func chebValueSlope(c []float64, s float64) (y, dyds float64) {
+	if len(c) == 0 {
+		return 0, 0
+	}
+	y = c[0]
+	if len(c) == 1 {
+		return y, 0
+	}
+	t0, t1 := 1.0, s
+	d0, d1 := 0.0, 1.0
+	y += c[1] * s
+	dyds = c[1]
+	s2 := 2 * s
+	for _, ck := range c[2:] {
+		t2 := s2*t1 - t0
+		d2 := 2*t1 + s2*d1 - d0
+		y += ck * t2
+		dyds += ck * d2
+		t0, t1 = t1, t2
+		d0, d1 = d1, d2
+	}
+	return y, dyds
+}
+
+// LoadTable rebuilds a table from its exported representation (as received
+// from a server), validating every field: bad data gives an error wrapping
+// ErrBadParam, never a panic. quantity and unit name x in range errors
+// ("temperature", "K"); empty means "x".
+func LoadTable(d TableData, quantity, unit string) (*Table, error) {
+	if quantity == "" {
+		quantity = "x"
+	}
+	return newTable(d, quantity, unit)
+}
+
+func newTable(d TableData, quantity, unit string) (*Table, error) {
+	bad := func(format string, a ...any) error {
+		return fmt.Errorf("%w: table: %s", ErrBadParam, fmt.Sprintf(format, a...))
+	}
+	if !d.XTransform.valid() || !d.YTransform.valid() {
+		return nil, bad("transforms %v/%v (valid: identity, log, reciprocal)", d.XTransform, d.YTransform)
+	}
+	if !(d.XMin < d.XMax) || math.IsInf(d.XMin, 0) || math.IsInf(d.XMax, 0) {
+		return nil, bad("domain [%g, %g] must be finite with x_min < x_max", d.XMin, d.XMax)
+	}
+	if !d.XTransform.accepts(d.XMin) || !d.XTransform.accepts(d.XMax) || (d.XTransform == TransformReciprocal && d.XMin < 0 && d.XMax > 0) {
+		return nil, bad("domain [%g, %g] outside the %v transform's domain", d.XMin, d.XMax, d.XTransform)
+	}
+	nseg := len(d.Breaks) - 1
+	if nseg < 1 {
+		return nil, bad("%d breaks, need at least 2", len(d.Breaks))
+	}
+	if len(d.Offsets) != len(d.Breaks) {
+		return nil, bad("%d offsets for %d breaks, need as many offsets as breaks", len(d.Offsets), len(d.Breaks))
+	}
+	if len(d.Coeffs) > maxTableCoeffs {
+		return nil, bad("%d coefficients, more than the limit %d", len(d.Coeffs), maxTableCoeffs)
+	}
+	for i, v := range d.Breaks {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, bad("break %d is %v", i, v)
+		}
+		if i > 0 && !(v > d.Breaks[i-1]) {
+			return nil, bad("breaks must increase strictly, break %d = %g after %g", i, v, d.Breaks[i-1])
+		}
+	}
+	if d.Offsets[0] != 0 {
+		return nil, bad("first offset is %d, must be 0", d.Offsets[0])
+	}
+	for i := 1; i < len(d.Offsets); i++ {
+		if d.Offsets[i] <= d.Offsets[i-1] {
+			return nil, bad("offsets must increase strictly, offset %d = %d after %d", i, d.Offsets[i], d.Offsets[i-1])
+		}
+	}
+	if int64(d.Offsets[nseg]) != int64(len(d.Coeffs)) {
+		return nil, bad("last offset %d does not match %d coefficients", d.Offsets[nseg], len(d.Coeffs))
+	}
+	for i, v := range d.Coeffs {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, bad("coefficient %d is %v", i, v)
+		}
+	}
+	if math.IsNaN(d.MaxRelError) || math.IsInf(d.MaxRelError, 0) || d.MaxRelError < 0 {
+		return nil, bad("max_rel_error %v must be finite and ≥ 0", d.MaxRelError)
+	}
+	ua, ub := d.XTransform.forward(d.XMin), d.XTransform.forward(d.XMax)
+	if ua > ub {
+		ua, ub = ub, ua
+	}
+	span := ub - ua
+	if math.IsInf(span, 0) || math.IsNaN(span) {
+		return nil, bad("transformed domain [%g, %g] is not finite", ua, ub)
+	}
+	tolU := tableBreakTolerance * math.Max(span, math.Max(math.Abs(ua), math.Abs(ub)))
+	if math.Abs(d.Breaks[0]-ua) > tolU || math.Abs(d.Breaks[nseg]-ub) > tolU {
+		return nil, bad("breaks span [%g, %g] but the transformed domain is [%g, %g]", d.Breaks[0], d.Breaks[nseg], ua, ub)
+	}
+	t := &Table{
+		xt: d.XTransform, yt: d.YTransform,
+		breaks:   append([]float64(nil), d.Breaks...),
+		offsets:  append([]uint32(nil), d.Offsets...),
+		coeffs:   append([]float64(nil), d.Coeffs...),
+		invWidth: make([]float64, nseg),
+		xmin:     d.XMin, xmax: d.XMax,
+		maxRel:   d.MaxRelError,
+		quantity: quantity, unit: unit,
+	}
+	minW := math.Inf(1)
+	for i := 0; i < nseg; i++ {
+		w := t.breaks[i+1] - t.breaks[i]
+		if math.IsInf(w, 0) || w == 0 {
+			return nil, bad("segment %d has width %g", i, w)
+		}
+		t.invWidth[i] = 1 / w
+		minW = math.Min(minW, w)
+	}
+	full := t.breaks[nseg] - t.breaks[0]
+	nb := int(math.Min(maxTableBins, math.Ceil(full/minW)))
+	if nb < 1 {
+		nb = 1
+	}
+	t.u0 = t.breaks[0]
+	t.binScale = float64(nb) / full
+	t.bins = make([]int32, nb)
+	seg := 0
+	for j := range t.bins {
+		u := t.u0 + float64(j)/t.binScale
+		for seg+1 < nseg && u >= t.breaks[seg+1] {
+			seg++
+		}
+		t.bins[j] = int32(seg)
+	}
+	return t, nil
+}
+
+// Data returns the exported representation (a deep copy).
+func (t *Table) Data() TableData {
+	return TableData{
+		XTransform: t.xt, YTransform: t.yt,
+		Breaks:      append([]float64(nil), t.breaks...),
+		Offsets:     append([]uint32(nil), t.offsets...),
+		Coeffs:      append([]float64(nil), t.coeffs...),
+		XMin:        t.xmin,
+		XMax:        t.xmax,
+		MaxRelError: t.maxRel,
+	}
+}
+
+// Domain returns the raw interval of x the table covers.
+func (t *Table) Domain() (xmin, xmax float64) { return t.xmin, t.xmax }
+
+// MaxRelError returns the maximum relative error measured against the
+// source when the table was built.
+func (t *Table) MaxRelError() float64 { return t.maxRel }
+
+// Segments returns the number of segments.
+func (t *Table) Segments() int { return len(t.breaks) - 1 }
+
+// Coefficients returns the total number of stored coefficients.
+func (t *Table) Coefficients() int { return len(t.coeffs) }
+
+// Eval returns y(x) and dy/dx in raw units. It allocates nothing on
+// success. x outside the table's domain gives a *RangeError; NaN, ±Inf
+// (and x ≤ 0 when x is a temperature or pressure, or is log- or
+// reciprocal-transformed) give an *InputError.
+func (t *Table) Eval(x float64) (y, dydx float64, err error) {
+	if !(x >= t.xmin && x <= t.xmax) {
+		return 0, 0, t.domainError(x)
+	}
+	var u, dudx float64
+	switch t.xt {
+	case TransformLog:
+		u, dudx = math.Log(x), 1/x
+	case TransformReciprocal:
+		u = 1 / x
+		dudx = -u * u
+	default:
+		u, dudx = x, 1
+	}
+	i := t.segment(u)
+	inv := t.invWidth[i]
+	s := ((u - t.breaks[i]) - (t.breaks[i+1] - u)) * inv
+	yy, dyds := chebValueSlope(t.coeffs[t.offsets[i]:t.offsets[i+1]], s)
+	dyu := dyds * 2 * inv
+	switch t.yt {
+	case TransformLog:
+		y = math.Exp(yy)
+		return y, y * dyu * dudx, nil
+	case TransformReciprocal:
+		y = 1 / yy
+		return y, -y * y * dyu * dudx, nil
+	}
+	return yy, dyu * dudx, nil
+}
+
+// Value returns y(x) alone.
+func (t *Table) Value(x float64) (float64, error) {
+	y, _, err := t.Eval(x)
+	return y, err
+}
+
+// segment returns the index of the segment holding transformed u.
+func (t *Table) segment(u float64) int {
+	j := int((u - t.u0) * t.binScale)
+	if j < 0 {
+		j = 0
+	} else if j >= len(t.bins) {
+		j = len(t.bins) - 1
+	}
+	i := int(t.bins[j])
+	last := len(t.breaks) - 2
+	for i < last && u >= t.breaks[i+1] {
+		i++
+	}
+	for i > 0 && u < t.breaks[i] {
+		i--
+	}
+	return i
+}
+
+func (t *Table) domainError(x float64) error {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return &InputError{Quantity: t.quantity, Value: x, Reason: "must be a finite number"}
+	}
+	if x <= 0 && (t.unit == "K" || t.unit == "Pa" || t.xt != TransformIdentity) {
+		return &InputError{Quantity: t.quantity, Value: x, Reason: "must be > 0" + tableUnitSuffix(t.unit)}
+	}
+	return &RangeError{Quantity: t.quantity, Value: x, Min: t.xmin, Max: t.xmax, Unit: t.unit}
+}
+
+func tableUnitSuffix(unit string) string {
+	if unit == "" {
+		return ""
+	}
+	return " " + unit
+}
+
+// BuildPressureTable compiles P(T) of c over its temperature range. Zero
+// transforms default to the vapour-curve choice, ln P against 1/T
+// (XTransform reciprocal, YTransform log); pass TransformIdentity for both
+// on melting curves, where P(T) is close to linear in T and ln P is ill
+// suited near a triple point at low pressure. Quantity and Unit default to
+// "temperature" and "K".
+func BuildPressureTable(c Correlation, opts TableOptions) (*Table, error) {
+	if c == nil {
+		return nil, fmt.Errorf("%w: correlation is nil", ErrBadParam)
+	}
+	if opts.XTransform == 0 {
+		opts.XTransform = TransformReciprocal
+	}
+	if opts.YTransform == 0 {
+		opts.YTransform = TransformLog
+	}
+	if opts.Quantity == "" {
+		opts.Quantity, opts.Unit = "temperature", "K"
+	}
+	r := c.Range()
+	return BuildTable(func(x, y []float64) error {
+		for i, t := range x {
+			p, err := c.Pressure(t)
+			if err != nil {
+				return err
+			}
+			y[i] = p
+		}
+		return nil
+	}, r.Tmin, r.Tmax, opts)
+}
+
+// BuildTemperatureTable compiles T(P) of c over its pressure range
+// [Pmin, Pmax]. Zero transforms default to 1/T against ln P (XTransform
+// log, YTransform reciprocal), the vapour-curve choice; identity suits
+// melting curves as well. Quantity and Unit default to "pressure" and "Pa".
+func BuildTemperatureTable(c Correlation, opts TableOptions) (*Table, error) {
+	if c == nil {
+		return nil, fmt.Errorf("%w: correlation is nil", ErrBadParam)
+	}
+	if opts.XTransform == 0 {
+		opts.XTransform = TransformLog
+	}
+	if opts.YTransform == 0 {
+		opts.YTransform = TransformReciprocal
+	}
+	if opts.Quantity == "" {
+		opts.Quantity, opts.Unit = "pressure", "Pa"
+	}
+	r := c.Range()
+	return BuildTable(func(x, y []float64) error {
+		for i, p := range x {
+			t, err := c.Temperature(p)
+			if err != nil {
+				return err
+			}
+			y[i] = t
+		}
+		return nil
+	}, r.Pmin, r.Pmax, opts)
+}
+
+// DefaultTransforms returns the recommended (x, y) transforms of the P(T)
+// and T(P) tables of a curve kind: ln P against 1/T for vapour curves
+// (saturation, sublimation), where ln P is nearly linear in 1/T; identity
+// for melting and transition curves, which are steep and close to linear
+// in T and P.
+func DefaultTransforms(k CurveKind) (pOfT, tOfP TableOptions) {
+	if k == Saturation || k == Sublimation {
+		return TableOptions{XTransform: TransformReciprocal, YTransform: TransformLog},
+			TableOptions{XTransform: TransformLog, YTransform: TransformReciprocal}
+	}
+	return TableOptions{XTransform: TransformIdentity, YTransform: TransformIdentity},
+		TableOptions{XTransform: TransformIdentity, YTransform: TransformIdentity}
+}
+
+// TableCorrelation is a Correlation served by compiled tables: P(T) and
+// dP/dT from a pressure table, T(P) from a temperature table. Its slope is
+// the derivative of the interpolant, not the source's analytic slope. It
+// does not extrapolate.
+type TableCorrelation struct {
+	pt, tp *Table
+	r      Range
+}
+
+var _ Correlation = (*TableCorrelation)(nil)
+
+// NewTableCorrelation pairs a P(T) table with a T(P) table of the same
+// branch. tOfP may be nil, in which case Temperature reports
+// ErrNotImplemented. The range is the P(T) table's temperature domain and
+// the T(P) table's pressure domain (or the extremes of P over the P(T)
+// table's nodes when tOfP is nil).
+func NewTableCorrelation(pOfT, tOfP *Table) (*TableCorrelation, error) {
+	if pOfT == nil {
+		return nil, fmt.Errorf("%w: pressure table is nil", ErrBadParam)
+	}
+	c := &TableCorrelation{pt: pOfT, tp: tOfP}
+	c.r.Tmin, c.r.Tmax = pOfT.Domain()
+	if tOfP != nil {
+		c.r.Pmin, c.r.Pmax = tOfP.Domain()
+	} else {
+		c.r.Pmin, c.r.Pmax = math.Inf(1), math.Inf(-1)
+		for i := 0; i <= 64; i++ {
+			p, err := pOfT.Value(c.r.Tmin + (c.r.Tmax-c.r.Tmin)*float64(i)/64)
+			if err != nil {
+				return nil, err
+			}
+			c.r.Pmin, c.r.Pmax = math.Min(c.r.Pmin, p), math.Max(c.r.Pmax, p)
+		}
+	}
+	return c, nil
+}
+
+// Pressure implements Correlation.
+func (c *TableCorrelation) Pressure(t float64) (float64, error) {
+	p, _, err := c.PressureSlope(t)
+	return p, err
+}
+
+// Slope implements Correlation.
+func (c *TableCorrelation) Slope(t float64) (float64, error) {
+	_, d, err := c.PressureSlope(t)
+	return d, err
+}
+
+// PressureSlope implements Correlation.
+func (c *TableCorrelation) PressureSlope(t float64) (p, dpdt float64, err error) {
+	if !(t > 0) || math.IsInf(t, 0) {
+		return 0, 0, CheckTemperature(t, c.r)
+	}
+	p, dpdt, err = c.pt.Eval(t)
+	if err != nil {
+		var re *RangeError
+		if errors.As(err, &re) {
+			return 0, 0, &RangeError{Quantity: "temperature", Value: t, Min: c.r.Tmin, Max: c.r.Tmax, Unit: "K"}
+		}
+	}
+	return p, dpdt, err
+}
+
+// Temperature implements Correlation.
+func (c *TableCorrelation) Temperature(p float64) (float64, error) {
+	if !(p > 0) || math.IsInf(p, 0) {
+		return 0, CheckPressure(p, c.r)
+	}
+	if c.tp == nil {
+		return 0, fmt.Errorf("%w: no T(P) table", ErrNotImplemented)
+	}
+	t, _, err := c.tp.Eval(p)
+	if err != nil {
+		var re *RangeError
+		if errors.As(err, &re) {
+			return 0, &RangeError{Quantity: "pressure", Value: p, Min: c.r.Pmin, Max: c.r.Pmax, Unit: "Pa"}
+		}
+	}
+	return t, err
+}
+
+// Range implements Correlation.
+func (c *TableCorrelation) Range() Range { return c.r }
