@@ -1,0 +1,15 @@
+package sdk
+
+import (
+	"os/exec"
+	"syscall"
+)
+
+// setParentDeathSignal makes the kernel kill the backend when the host dies,
+// however it dies (even by SIGKILL, which runs no cleanup).
+func setParentDeathSignal(cmd *exec.Cmd) {
+	if cmd.SysProcAttr == nil {
+		cmd.SysProcAttr = &syscall.SysProcAttr{}
+	}
+	cmd.SysProcAttr.Pdeathsig = syscall.SIGKILL
+}

@@ -1,0 +1,6 @@
+// Command solid is the standard phasebound backend "solid"; the phasebound server starts it.
+package main
+
+import "github.com/phasebound/phasebound/plugins/sdk"
+
+func main() { sdk.Serve(sdk.MustStandard("solid")) }
