@@ -66,9 +66,11 @@ func (f PowerSumFamily) New(p Params, tmin, tmax float64) (Correlation, error) {
 		th := t / tr
 		s, d := 1.0, 0.0
 		for i, ai := range a {
-			x := math.Pow(th, b[i])
-			s += ai * (x - 1)
-			d += ai * b[i] * x
+			// θ^b − 1 as expm1(b·ln θ): near the reference point the
+			// terms cancel and x − 1 would lose ~1e-10 of P to rounding.
+			lt := b[i] * math.Log(th)
+			s += ai * math.Expm1(lt)
+			d += ai * b[i] * math.Exp(lt)
 		}
 		return pr * s, pr * d / t
 	}
