@@ -27,7 +27,7 @@ import (
 
 const (
 	backendEnv = "PHASEBOUND_SDK_TEST_BACKEND" // serve the test backend of this name
-	hostEnv    = "PHASEBOUND_SDK_TEST_HOST"    // act as a host that starts a backend and waits
+	hostEnv    = "PHASEBOUND_SDK_TEST_HOST"    // act as a host that starts a backend and waits; "watcher": without the parent-death signal
 )
 
 func TestMain(m *testing.M) {
@@ -35,7 +35,8 @@ func TestMain(m *testing.M) {
 		Serve(testBackend(name))
 		os.Exit(0)
 	}
-	if os.Getenv(hostEnv) != "" {
+	if mode := os.Getenv(hostEnv); mode != "" {
+		useParentDeathSignal = mode != "watcher"
 		os.Exit(runTestHost())
 	}
 	os.Exit(m.Run())
@@ -83,7 +84,7 @@ var _ thermo.Extrapolator = line{}
 
 func (l line) Pressure(t float64) (float64, error) { p, _, err := l.PressureSlope(t); return p, err }
 func (l line) Slope(t float64) (float64, error)    { _, d, err := l.PressureSlope(t); return d, err }
-func (l line) Range() thermo.Range                  { return l.r }
+func (l line) Range() thermo.Range                 { return l.r }
 
 func (l line) PressureSlope(t float64) (float64, float64, error) {
 	if err := thermo.CheckTemperature(t, l.r); err != nil {

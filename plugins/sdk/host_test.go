@@ -1,16 +1,21 @@
 package sdk
 
 import (
+	"bufio"
 	"context"
 	"errors"
+	"github.com/phasebound/phasebound/thermo"
 	"os"
+	"os/exec"
+	"path/filepath"
+	"runtime"
 	"slices"
 	"strconv"
 	"strings"
+	"sync/atomic"
 	"syscall"
 	"testing"
 	"time"
-
 )
 
 // These tests start real backend processes (this test binary, see
@@ -108,5 +113,284 @@ func TestHostLargeBatch(t *testing.T) {
 		if want := 1000 + 50*ts[i]; p != want || res.Derivatives[i] != 50 {
 			t.Fatalf("point %d: P = %v, dP/dT = %v; want %v, 50", i, p, res.Derivatives[i], want)
 		}
+	}
+}
+
+func TestHostRefusesChecksumMismatch(t *testing.T) {
+	exe, err := os.Executable()
+	if err != nil {
+		t.Fatal(err)
+	}
+	actual, err := FileSHA256(exe)
+	if err != nil {
+		t.Fatal(err)
+	}
+	wrong := strings.Repeat("0", 64)
+	h := newTestHost(t, HostConfig{})
+	err = h.Start(context.Background(), BackendSpec{Name: "intruder", Path: exe, SHA256: wrong})
+	var ce *ChecksumError
+	if !errors.As(err, &ce) {
+		t.Fatalf("err = %v, want a *ChecksumError", err)
+	}
+	if ce.Path != exe || ce.Expected != wrong || ce.Actual != actual {
+		t.Errorf("ChecksumError = %+v, want path %s, expected %s, actual %s", ce, exe, wrong, actual)
+	}
+	for _, s := range []string{exe, wrong, actual} {
+		if !strings.Contains(err.Error(), s) {
+			t.Errorf("error %q does not name %s", err, s)
+		}
+	}
+	if got := h.Backends(); len(got) != 0 {
+		t.Errorf("a refused backend is listed: %v", got)
+	}
+
+	// Malformed and missing pins are refused before anything runs.
+	for _, sha := range []string{"", "abc", strings.Repeat("g", 64)} {
+		if err := h.Start(context.Background(), BackendSpec{Name: "intruder", Path: exe, SHA256: sha}); err == nil || !strings.Contains(err.Error(), "sha256") {
+			t.Errorf("sha256 %q: err = %v, want a complaint about the sha256", sha, err)
+		}
+	}
+}
+
+func TestHostStandardBackendPinned(t *testing.T) {
+	// A standard backend's executable is pinned at its first start: a
+	// different file at the same path later is refused.
+	dir := t.TempDir()
+	exe, err := os.Executable()
+	if err != nil {
+		t.Fatal(err)
+	}
+	copyPath := filepath.Join(dir, "backend")
+	data, err := os.ReadFile(exe)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(copyPath, data, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	cmdFor := func(name string) (*exec.Cmd, error) {
+		cmd := exec.Command(copyPath)
+		cmd.Env = []string{backendEnv + "=" + name}
+		return cmd, nil
+	}
+	h := newTestHost(t, HostConfig{Command: cmdFor})
+	if err := h.Start(context.Background(), BackendSpec{Name: "first"}); err != nil {
+		t.Fatal(err)
+	}
+	// Replace the file the way an upgrade does: write aside, rename over.
+	if err := os.WriteFile(copyPath+".new", append(data, 0), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.Rename(copyPath+".new", copyPath); err != nil {
+		t.Fatal(err)
+	}
+	err = h.Start(context.Background(), BackendSpec{Name: "second"})
+	var ce *ChecksumError
+	if !errors.As(err, &ce) || ce.Path != copyPath {
+		t.Fatalf("after replacing the executable: err = %v, want a *ChecksumError for %s", err, copyPath)
+	}
+}
+
+func TestHostThirdPartyBackend(t *testing.T) {
+	exe, err := os.Executable()
+	if err != nil {
+		t.Fatal(err)
+	}
+	sum, err := FileSHA256(exe)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// A third-party backend runs with the host's environment: this tells
+	// the test binary which backend to be.
+	t.Setenv(backendEnv, "lab-fits")
+	h := newTestHost(t, HostConfig{})
+	if err := h.Start(context.Background(), BackendSpec{Name: "lab-fits", Path: exe, SHA256: strings.ToUpper(sum)}); err != nil {
+		t.Fatal(err)
+	}
+	res, err := h.Evaluate(context.Background(), "lab-fits", EvalRequest{Family: "test-line", Params: lineParams, Tmin: 200, Tmax: 300, Op: OpTemperature, Values: []float64{13500}})
+	if err != nil || res.Results[0] != 250 || res.Derivatives[0] != 50 {
+		t.Fatalf("Evaluate = %+v, %v; want T = 250 K, dP/dT = 50 Pa/K", res, err)
+	}
+}
+
+// TestHostRestartsKilledBackend kills a backend with SIGKILL while a call
+// is in flight: the call fails with ErrBackendUnavailable (never a value),
+// the supervisor starts a new process, and calls succeed again.
+func TestHostRestartsKilledBackend(t *testing.T) {
+	var restarted atomic.Int64
+	h := newTestHost(t, HostConfig{MinBackoff: 10 * time.Millisecond, OnRestart: func(string) { restarted.Add(1) }})
+	ctx := context.Background()
+	if err := h.Start(ctx, BackendSpec{Name: "fragile"}); err != nil {
+		t.Fatal(err)
+	}
+	pid := currentPID(t, h, "fragile")
+
+	type outcome struct {
+		res EvalResult
+		err error
+	}
+	done := make(chan outcome, 1)
+	go func() {
+		// One point that takes a minute: certainly in flight when killed.
+		res, err := h.Evaluate(ctx, "fragile", EvalRequest{Family: "test-sleep", Params: thermo.Params{"seconds": {60}},
+			Tmin: 1, Tmax: 1000, Op: OpPressure, Values: []float64{300}})
+		done <- outcome{res, err}
+	}()
+	time.Sleep(200 * time.Millisecond) // let the call reach the backend
+	if err := syscall.Kill(pid, syscall.SIGKILL); err != nil {
+		t.Fatal(err)
+	}
+	got := <-done
+	if !errors.Is(got.err, ErrBackendUnavailable) {
+		t.Fatalf("in-flight call: result %+v, err %v; want an error wrapping ErrBackendUnavailable", got.res, got.err)
+	}
+	if got.res.Results != nil {
+		t.Errorf("in-flight call returned values %v with its error", got.res.Results)
+	}
+
+	if !waitFor(60*time.Second, func() bool { return h.Restarts() >= 1 }) {
+		t.Fatal("backend was not restarted")
+	}
+	if restarted.Load() < 1 {
+		t.Error("OnRestart was not called")
+	}
+	if newPID := currentPID(t, h, "fragile"); newPID == pid {
+		t.Errorf("restarted backend has the old pid %d", pid)
+	}
+	res, err := h.Evaluate(ctx, "fragile", EvalRequest{Family: "test-line", Params: lineParams, Tmin: 200, Tmax: 300, Op: OpPressure, Values: []float64{250}})
+	if err != nil || res.Results[0] != 13500 {
+		t.Fatalf("after restart: %+v, %v", res, err)
+	}
+	if !waitFor(10*time.Second, func() bool { return processGone(pid) }) {
+		t.Errorf("killed backend %d was not reaped", pid)
+	}
+}
+
+func TestHostCloseLeavesNoChild(t *testing.T) {
+	h := newTestHost(t, HostConfig{})
+	ctx := context.Background()
+	var pids []int
+	for _, name := range []string{"one", "two"} {
+		if err := h.Start(ctx, BackendSpec{Name: name}); err != nil {
+			t.Fatal(err)
+		}
+		pids = append(pids, currentPID(t, h, name))
+	}
+	dir := h.socketDir
+	h.Close()
+	for _, pid := range pids {
+		if !processGone(pid) {
+			t.Errorf("backend process %d still runs after Close", pid)
+		}
+	}
+	if _, err := os.Stat(dir); !errors.Is(err, os.ErrNotExist) {
+		t.Errorf("socket directory %s left behind: %v", dir, err)
+	}
+	if _, err := h.Evaluate(ctx, "one", EvalRequest{Op: OpPressure}); !errors.Is(err, ErrBackendUnavailable) {
+		t.Errorf("Evaluate after Close: err = %v, want ErrBackendUnavailable", err)
+	}
+	if err := h.Start(ctx, BackendSpec{Name: "three"}); err == nil {
+		t.Error("Start after Close succeeded")
+	}
+	h.Close() // again: no effect
+}
+
+// TestBackendDiesWithHost kills a host process with SIGKILL (no cleanup
+// runs) and checks that its backend does not outlive it, once through the
+// parent-death signal (Linux) and once through the backend's own parent
+// watcher alone.
+func TestBackendDiesWithHost(t *testing.T) {
+	modes := []string{"watcher"}
+	if runtime.GOOS == "linux" {
+		modes = append(modes, "signal")
+	}
+	for _, mode := range modes {
+		t.Run(mode, func(t *testing.T) { testBackendDiesWithHost(t, mode) })
+	}
+}
+
+func testBackendDiesWithHost(t *testing.T, mode string) {
+	exe, err := os.Executable()
+	if err != nil {
+		t.Fatal(err)
+	}
+	host := exec.Command(exe)
+	host.Env = append(os.Environ(), hostEnv+"="+mode)
+	out, err := host.StdoutPipe()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := host.Start(); err != nil {
+		t.Fatal(err)
+	}
+	defer func() { _ = host.Process.Kill(); _ = host.Wait() }()
+	line, err := bufio.NewReader(out).ReadString('\n')
+	if err != nil {
+		t.Fatalf("host printed no backend pid: %v", err)
+	}
+	pid, err := strconv.Atoi(strings.TrimSpace(line))
+	if err != nil {
+		t.Fatalf("host printed %q: %v", line, err)
+	}
+	if processGone(pid) {
+		t.Fatalf("backend %d not running before the host is killed", pid)
+	}
+	if err := host.Process.Signal(syscall.SIGKILL); err != nil {
+		t.Fatal(err)
+	}
+	_ = host.Wait()
+	if !waitFor(20*time.Second, func() bool { return processGone(pid) }) {
+		_ = syscall.Kill(pid, syscall.SIGKILL)
+		t.Fatalf("backend %d outlived its host", pid)
+	}
+}
+
+func TestServeRefusesToRunByHand(t *testing.T) {
+	exe, err := os.Executable()
+	if err != nil {
+		t.Fatal(err)
+	}
+	cmd := exec.Command(exe)
+	cmd.Env = []string{backendEnv + "=manual"}
+	var stdout, stderr strings.Builder
+	cmd.Stdout, cmd.Stderr = &stdout, &stderr
+	err = cmd.Run()
+	var ee *exec.ExitError
+	if !errors.As(err, &ee) || ee.ExitCode() != 1 {
+		t.Fatalf("exit: %v, want status 1", err)
+	}
+	if !strings.Contains(stderr.String(), "this is a phasebound backend; the server starts it") {
+		t.Errorf("stderr = %q", stderr.String())
+	}
+	if stdout.Len() != 0 {
+		t.Errorf("wrote to stdout: %q", stdout.String())
+	}
+}
+
+// TestHostUnavailableWhileRestarting: between a backend's death and its
+// restart, calls fail fast with ErrBackendUnavailable.
+func TestHostUnavailableWhileRestarting(t *testing.T) {
+	h := newTestHost(t, HostConfig{MinBackoff: 2 * time.Second})
+	ctx := context.Background()
+	if err := h.Start(ctx, BackendSpec{Name: "slowstart"}); err != nil {
+		t.Fatal(err)
+	}
+	s, _ := h.supervisor("slowstart")
+	inst := s.cur.Load()
+	if err := syscall.Kill(inst.pid, syscall.SIGKILL); err != nil {
+		t.Fatal(err)
+	}
+	if !waitFor(10*time.Second, inst.isDead) {
+		t.Fatal("death not detected")
+	}
+	req := EvalRequest{Family: "test-line", Params: lineParams, Tmin: 200, Tmax: 300, Op: OpPressure, Values: []float64{250}}
+	if _, err := h.Evaluate(ctx, "slowstart", req); !errors.Is(err, ErrBackendUnavailable) || !strings.Contains(err.Error(), "restarting") {
+		t.Fatalf("during restart: err = %v, want ErrBackendUnavailable saying it restarts", err)
+	}
+	if !waitFor(60*time.Second, func() bool { return h.Restarts() == 1 }) {
+		t.Fatal("not restarted")
+	}
+	if res, err := h.Evaluate(ctx, "slowstart", req); err != nil || res.Results[0] != 13500 {
+		t.Fatalf("after restart: %+v, %v", res, err)
 	}
 }
