@@ -125,10 +125,16 @@ func (l *Limiter) UnaryInterceptor() grpc.UnaryServerInterceptor {
 		if err := deadlinePassed(ctx); err != nil {
 			return nil, err
 		}
-		if n := requestPoints(req); n > l.cfg.MaxPointsPerRequest {
+		limit := l.cfg.MaxPointsPerRequest
+		if _, ok := req.(*phaseboundpb.EchoRequest); ok {
+			// An echo returns bare doubles; an Evaluate response carries
+			// about eight numbers per point. Same bytes, same bound.
+			limit *= 8
+		}
+		if n := requestPoints(req); n > limit {
 			return nil, status.Errorf(codes.ResourceExhausted,
 				"request has %d points, more than the server's limit of %d per request (--max-points): split it, or use EvaluateStream in chunks of at most %d points",
-				n, l.cfg.MaxPointsPerRequest, l.cfg.MaxPointsPerMessage)
+				n, limit, l.cfg.MaxPointsPerMessage)
 		}
 		release, err := l.acquire(ctx)
 		if err != nil {

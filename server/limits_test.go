@@ -44,9 +44,13 @@ func TestLimitsPoints(t *testing.T) {
 			t.Errorf("LocatePhase %s: code %v, want %v", tc.name, got, tc.want)
 		}
 	}
-	// Echo counts copies: 10 values × 11 copies is over 100.
-	if _, err := client.Echo(ctx, &phaseboundpb.EchoRequest{Values: make([]float64, 10), Copies: 11}); status.Code(err) != codes.ResourceExhausted {
-		t.Errorf("Echo 10 × 11: %v, want ResourceExhausted", err)
+	// Echo counts copies against 8 × the limit: 10 values × 80 copies pass,
+	// × 81 do not.
+	if _, err := client.Echo(ctx, &phaseboundpb.EchoRequest{Values: make([]float64, 10), Copies: 80}); err != nil {
+		t.Errorf("Echo 10 × 80: %v", err)
+	}
+	if _, err := client.Echo(ctx, &phaseboundpb.EchoRequest{Values: make([]float64, 10), Copies: 81}); status.Code(err) != codes.ResourceExhausted {
+		t.Errorf("Echo 10 × 81: %v, want ResourceExhausted", err)
 	}
 
 	// Streams: chunks up to 10 points pass, an 11-point chunk ends the stream.
