@@ -5,7 +5,9 @@ import (
 	"math"
 )
 
-// Latent heat along a coexistence curve by the Clapeyron equation,
+// Latent heat along a coexistence curve by the Clapeyron equation (the
+// relations themselves live in clapeyron.go; this file composes them with a
+// curve and two phase-volume correlations, point by point),
 //
 //	ΔH = T·(v_high − v_low)·dP/dT,
 //
@@ -119,12 +121,20 @@ func LatentHeatAt(kind CurveKind, t, p, dpdt float64, vol PhaseVolumes, molarMas
 		if err != nil {
 			return LatentHeat{}, fmt.Errorf("thermo: latent heat: volume of the high-temperature phase: %w", err)
 		}
+		h, err := ClapeyronEnthalpyVolumes(t, dpdt, hi, lo)
+		if err != nil {
+			return LatentHeat{}, fmt.Errorf("thermo: latent heat: %w", err)
+		}
 		out.VolumeLow, out.VolumeHigh = lo, hi
-		out.Molar = t * (hi - lo) * dpdt
+		out.Molar = h
 		out.Source = LatentClapeyron
 	case hasVapour(kind):
+		h, err := IdealGasEnthalpy(t, p, dpdt)
+		if err != nil {
+			return LatentHeat{}, fmt.Errorf("thermo: latent heat: %w", err)
+		}
 		out.VolumeHigh = R * t / p
-		out.Molar = R * t * t * dpdt / p
+		out.Molar = h
 		out.Source = LatentIdealGasEstimate
 	default:
 		return LatentHeat{}, fmt.Errorf("%w on this %s curve: the Clapeyron equation needs both phase volumes (volume_low and volume_high), and the ideal-gas estimate applies to saturation and sublimation curves only",
