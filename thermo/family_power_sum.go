@@ -63,12 +63,13 @@ func (f PowerSumFamily) New(p Params, tmin, tmax float64) (Correlation, error) {
 		return nil, err
 	}
 	fn := func(t float64) (float64, float64) {
-		th := t / tr
+		// ln θ as log1p((T − T*)/T*) and θ^b − 1 as expm1(b·ln θ): near the
+		// reference point P is ~1e7 times as sensitive to θ as to T/T* − 1,
+		// and θ = T/T* rounded, or x − 1, would lose ~1e-10 of P.
+		lth := math.Log1p((t - tr) / tr)
 		s, d := 1.0, 0.0
 		for i, ai := range a {
-			// θ^b − 1 as expm1(b·ln θ): near the reference point the
-			// terms cancel and x − 1 would lose ~1e-10 of P to rounding.
-			lt := b[i] * math.Log(th)
+			lt := b[i] * lth
 			s += ai * math.Expm1(lt)
 			d += ai * b[i] * math.Exp(lt)
 		}
