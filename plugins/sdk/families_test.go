@@ -11,6 +11,7 @@ import (
 	"os/exec"
 	"os/signal"
 	"strconv"
+	"strings"
 	"sync"
 	"sync/atomic"
 	"syscall"
@@ -32,7 +33,11 @@ const (
 
 func TestMain(m *testing.M) {
 	if name := os.Getenv(backendEnv); name != "" {
-		Serve(testBackend(name))
+		if std, ok := strings.CutPrefix(name, "std:"); ok {
+			Serve(MustStandard(std)) // a standard backend, exactly as its main runs it
+		} else {
+			Serve(testBackend(name))
+		}
 		os.Exit(0)
 	}
 	if mode := os.Getenv(hostEnv); mode != "" {
