@@ -1,0 +1,359 @@
+package server
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+	"time"
+
+	"github.com/phasebound/phasebound/plugins/sdk"
+	phaseboundpb "github.com/phasebound/phasebound/proto/phasebound/v1"
+	"github.com/phasebound/phasebound/server/catalog"
+	"github.com/phasebound/phasebound/thermo"
+)
+
+// snapshot is one compiled catalog. It is immutable: handlers load it once
+// per call, and Reload replaces it as a whole.
+type snapshot struct {
+	cat     *catalog.Catalog
+	version string
+	byID    map[string]*substance
+	ids     []string // catalog order, for error messages
+	list    *phaseboundpb.ListSubstancesResponse
+}
+
+// substance is a catalog substance with its compiled curves.
+type substance struct {
+	cat    *catalog.Substance
+	pb     *phaseboundpb.Substance
+	curves []*curve
+	export *phaseboundpb.ExportTablesResponse
+	phases *phaseLocator
+}
+
+// curve is a compiled coexistence curve.
+type curve struct {
+	kind   thermo.CurveKind
+	vapour bool // saturation or sublimation: the high-T phase is a vapour
+	thermo *thermo.Curve
+	branch []*branch
+	names  []string
+}
+
+// branch is one compiled branch: tables for P(T), T(P) and, when the
+// catalog gives them, the two coexisting-phase volumes along the curve.
+type branch struct {
+	cat     *catalog.Branch
+	name    string
+	backend string // resolved backend of the curve correlation
+	rng     thermo.Range
+	corr    *thermo.TableCorrelation
+	pOfT    *thermo.Table
+	tOfP    *thermo.Table // nil when P(T) is not monotonic: T(P) goes to the backend
+	vLow    *thermo.Table // nil when unknown
+	vHigh   *thermo.Table
+	vLowBE  string // backends of the volume correlations
+	vHighBE string
+	maxErr  float64 // largest measured error of pOfT and tOfP
+}
+
+func (b *branch) hasVolumes() bool { return b.vLow != nil && b.vHigh != nil }
+
+// compile builds a snapshot of cat: it starts every backend the catalog
+// uses and compiles every branch.
+func (s *Server) compile(ctx context.Context, cat *catalog.Catalog) (*snapshot, error) {
+	t0 := time.Now()
+	snap := &snapshot{cat: cat, version: cat.Version, byID: map[string]*substance{}}
+	third := map[string]catalog.Backend{}
+	for _, b := range cat.Backends {
+		third[b.Name] = b
+	}
+	var ntables int
+	for _, cs := range cat.Substances {
+		sub := &substance{cat: cs}
+		for _, cc := range cs.Curves {
+			cv, n, err := s.compileCurve(ctx, cs, cc, third)
+			if err != nil {
+				return nil, err
+			}
+			ntables += n
+			sub.curves = append(sub.curves, cv)
+		}
+		sub.pb = substanceProto(sub)
+		sub.export = exportProto(sub, cat.Version)
+		loc, err := newPhaseLocator(sub)
+		if err != nil {
+			return nil, fmt.Errorf("server: substance %q: phase location: %w", cs.ID, err)
+		}
+		sub.phases = loc
+		snap.byID[cs.ID] = sub
+		snap.ids = append(snap.ids, cs.ID)
+	}
+	snap.list = &phaseboundpb.ListSubstancesResponse{CatalogVersion: cat.Version}
+	for _, id := range snap.ids {
+		snap.list.Substances = append(snap.list.Substances, snap.byID[id].pb)
+	}
+	s.log.Info("catalog compiled", "source", cat.Source, "version", cat.Version,
+		"substances", len(snap.ids), "tables", ntables, "elapsed", time.Since(t0).Round(time.Millisecond))
+	return snap, nil
+}
+
+// backendFor resolves and starts the backend serving a correlation.
+func (s *Server) backendFor(ctx context.Context, c catalog.Correlation, third map[string]catalog.Backend) (string, error) {
+	name := c.Backend
+	spec := sdk.BackendSpec{Name: name}
+	if name == "" {
+		std, err := sdk.StandardFor(c.Family)
+		if err != nil {
+			return "", err
+		}
+		name, spec.Name = std, std
+	} else if b, ok := third[name]; ok {
+		spec.Path, spec.SHA256 = b.Path, b.SHA256
+	}
+	if err := s.startBackend(ctx, spec); err != nil {
+		return "", err
+	}
+	return name, nil
+}
+
+func (s *Server) compileCurve(ctx context.Context, cs *catalog.Substance, cc *catalog.Curve, third map[string]catalog.Backend) (*curve, int, error) {
+	cv := &curve{kind: cc.Kind, vapour: cc.Kind == thermo.Saturation || cc.Kind == thermo.Sublimation}
+	var tb []thermo.Branch
+	ntables := 0
+	for _, cb := range cc.Branches {
+		where := fmt.Sprintf("substance %q, %v curve, branch %q", cs.ID, cc.Kind, cb.Name)
+		b, n, err := s.compileBranch(ctx, cv, cb, third)
+		if err != nil {
+			return nil, 0, fmt.Errorf("server: %s: %w", where, err)
+		}
+		ntables += n
+		cv.branch = append(cv.branch, b)
+		cv.names = append(cv.names, b.name)
+		tb = append(tb, thermo.Branch{Name: b.name, SolidForm: cb.SolidForm, Corr: b.corr})
+		s.log.Debug("branch compiled", "substance", cs.ID, "curve", cc.Kind.String(), "branch", cb.Name,
+			"backend", b.backend, "p_of_t_segments", b.pOfT.Segments(), "max_rel_error", b.maxErr)
+	}
+	c, err := thermo.NewCurve(cc.Kind, tb...)
+	if err != nil {
+		return nil, 0, fmt.Errorf("server: substance %q, %v curve: %w", cs.ID, cc.Kind, err)
+	}
+	cv.thermo = c
+	return cv, ntables, nil
+}
+
+// sampler evaluates one correlation through its backend, a batch per call.
+type sampler struct {
+	s       *Server
+	ctx     context.Context
+	backend string
+	corr    catalog.Correlation
+	tmin    float64
+	tmax    float64
+}
+
+func (sp sampler) eval(op sdk.Op, x, pressures []float64) (sdk.EvalResult, error) {
+	res, err := sp.s.host.Evaluate(sp.ctx, sp.backend, sdk.EvalRequest{
+		Family: sp.corr.Family, Params: sp.corr.Params, Tmin: sp.tmin, Tmax: sp.tmax,
+		Op: op, Values: x, Pressures: pressures,
+		// Table nodes lie inside the range up to rounding; allowing
+		// extrapolation keeps a node an ulp outside from failing.
+		AllowExtrapolation: true,
+	})
+	if err != nil {
+		return res, err
+	}
+	if len(res.Failures) > 0 {
+		f := res.Failures[0]
+		return res, fmt.Errorf("backend %q, family %q: %s at %g (%d failed points)", sp.backend, sp.corr.Family, f.Message, x[f.Index], len(res.Failures))
+	}
+	if len(res.Results) != len(x) {
+		return res, fmt.Errorf("backend %q returned %d results for %d points", sp.backend, len(res.Results), len(x))
+	}
+	return res, nil
+}
+
+func (sp sampler) fill(op sdk.Op) thermo.SampleFunc {
+	return func(x, y []float64) error {
+		res, err := sp.eval(op, x, nil)
+		if err != nil {
+			return err
+		}
+		copy(y, res.Results)
+		return nil
+	}
+}
+
+// buildTable builds a table to the server's tolerance. A table that only
+// reaches MaxTableError is accepted with a warning; worse fails, except for
+// volume tables (lenient), whose best table is kept and its measured error
+// reported: saturated densities have an infinite slope at the critical
+// point that no polynomial follows to 1e-10.
+func (s *Server) buildTable(f thermo.SampleFunc, xmin, xmax float64, o thermo.TableOptions, what string, lenient bool) (*thermo.Table, error) {
+	o.Tolerance = s.opts.TableTolerance
+	t, err := thermo.BuildTable(f, xmin, xmax, o)
+	var te *thermo.ToleranceError
+	if errors.As(err, &te) {
+		// A second try with more nodes per segment and more segments.
+		o2 := o
+		o2.Nodes, o2.MaxSegments = 24, 8192
+		if t2, err2 := thermo.BuildTable(f, xmin, xmax, o2); err2 == nil {
+			return t2, nil
+		} else if errors.As(err2, &te) && te.Best != nil {
+			t, err = te.Best, nil
+		}
+		if err == nil && t.MaxRelError() > MaxTableError && !lenient {
+			return nil, fmt.Errorf("%s table: %w", what, te)
+		}
+		if err == nil {
+			s.log.Warn("table tolerance not met", "table", what, "tolerance", o.Tolerance, "max_rel_error", t.MaxRelError())
+		}
+	}
+	if err != nil {
+		return nil, fmt.Errorf("%s table: %w", what, err)
+	}
+	return t, nil
+}
+
+// compileBranch starts the branch's backends and compiles its tables.
+func (s *Server) compileBranch(ctx context.Context, cv *curve, cb *catalog.Branch, third map[string]catalog.Backend) (*branch, int, error) {
+	be, err := s.backendFor(ctx, cb.Correlation, third)
+	if err != nil {
+		return nil, 0, err
+	}
+	b := &branch{cat: cb, name: cb.Name, backend: be}
+	sp := sampler{s: s, ctx: ctx, backend: be, corr: cb.Correlation, tmin: cb.Tmin, tmax: cb.Tmax}
+	pOpt, tOpt := thermo.DefaultTransforms(cv.kind)
+	pOpt.Quantity, pOpt.Unit = "temperature", "K"
+	tOpt.Quantity, tOpt.Unit = "pressure", "Pa"
+
+	b.pOfT, err = s.buildTable(sp.fill(sdk.OpPressure), cb.Tmin, cb.Tmax, pOpt, "P(T)", false)
+	if err != nil {
+		return nil, 0, err
+	}
+	ntables := 1
+	// Pressure range and monotonicity from the backend's own slopes on a
+	// grid: T(P) is tabulated only where it is single-valued.
+	const grid = 512
+	ts := make([]float64, grid+1)
+	for i := range ts {
+		ts[i] = cb.Tmin + (cb.Tmax-cb.Tmin)*float64(i)/grid
+	}
+	ts[grid] = cb.Tmax
+	res, err := sp.eval(sdk.OpPressure, ts, nil)
+	if err != nil {
+		return nil, 0, err
+	}
+	pmin, pmax := math.Inf(1), math.Inf(-1)
+	var pos, neg bool
+	for i, p := range res.Results {
+		pmin, pmax = math.Min(pmin, p), math.Max(pmax, p)
+		d := res.Derivatives[i]
+		pos = pos || d > 0
+		neg = neg || d < 0
+	}
+	monotonic := !(pos && neg)
+	if monotonic {
+		lo, hi := res.Results[0], res.Results[grid]
+		if lo > hi {
+			lo, hi = hi, lo
+		}
+		b.tOfP, err = s.buildTable(sp.fill(sdk.OpTemperature), lo, hi, tOpt, "T(P)", false)
+		if err != nil {
+			return nil, 0, err
+		}
+		ntables++
+	}
+	b.corr, err = thermo.NewTableCorrelation(b.pOfT, b.tOfP)
+	if err != nil {
+		return nil, 0, err
+	}
+	b.rng = b.corr.Range()
+	if !monotonic {
+		b.rng.Pmin, b.rng.Pmax = pmin, pmax
+	}
+	b.maxErr = b.pOfT.MaxRelError()
+	if b.tOfP != nil {
+		b.maxErr = math.Max(b.maxErr, b.tOfP.MaxRelError())
+	}
+
+	if cb.VolumeLow != nil && cb.VolumeHigh != nil {
+		vapourSide := cv.vapour
+		b.vLow, b.vLowBE, err = s.volumeTable(ctx, sp, *cb.VolumeLow, false, third, "low-T phase volume")
+		if err != nil {
+			return nil, 0, err
+		}
+		b.vHigh, b.vHighBE, err = s.volumeTable(ctx, sp, *cb.VolumeHigh, vapourSide, third, "high-T phase volume")
+		if err != nil {
+			return nil, 0, err
+		}
+		ntables += 2
+	}
+	return b, ntables, nil
+}
+
+// volumeTable tabulates a phase volume along the curve: v(T, P(T)).
+func (s *Server) volumeTable(ctx context.Context, curveSampler sampler, vc catalog.Correlation, vapour bool, third map[string]catalog.Backend, what string) (*thermo.Table, string, error) {
+	be, err := s.backendFor(ctx, vc, third)
+	if err != nil {
+		return nil, "", err
+	}
+	vs := sampler{s: s, ctx: ctx, backend: be, corr: vc, tmin: curveSampler.tmin, tmax: curveSampler.tmax}
+	f := func(x, y []float64) error {
+		pr, err := curveSampler.eval(sdk.OpPressure, x, nil)
+		if err != nil {
+			return err
+		}
+		res, err := vs.eval(sdk.OpVolume, x, pr.Results)
+		if err != nil {
+			return err
+		}
+		copy(y, res.Results)
+		return nil
+	}
+	o := thermo.TableOptions{XTransform: thermo.TransformIdentity, YTransform: thermo.TransformIdentity, Quantity: "temperature", Unit: "K"}
+	if vapour {
+		o.XTransform, o.YTransform = thermo.TransformReciprocal, thermo.TransformLog
+	}
+	t, err := s.buildTable(f, curveSampler.tmin, curveSampler.tmax, o, what, true)
+	return t, be, err
+}
+
+// kindChoices lists the curve kinds of a substance, for error messages.
+func (sub *substance) kindChoices() string {
+	names := make([]string, len(sub.curves))
+	for i, c := range sub.curves {
+		names[i] = c.kind.String()
+	}
+	return strings.Join(names, ", ")
+}
+
+// curveOf returns the substance's curve of kind k, or nil.
+func (sub *substance) curveOf(k thermo.CurveKind) *curve {
+	for _, c := range sub.curves {
+		if c.kind == k {
+			return c
+		}
+	}
+	return nil
+}
+
+// branchIndex returns the index of the branch named name, or -1.
+func (cv *curve) branchIndex(name string) int {
+	for i, n := range cv.names {
+		if n == name {
+			return i
+		}
+	}
+	return -1
+}
+
+// sortedIDs returns the substance ids sorted, for error messages.
+func (snap *snapshot) sortedIDs() []string {
+	ids := append([]string(nil), snap.ids...)
+	sort.Strings(ids)
+	return ids
+}

@@ -1,0 +1,505 @@
+package server
+
+import (
+	"cmp"
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"slices"
+	"strings"
+
+	"google.golang.org/grpc/codes"
+
+	"github.com/phasebound/phasebound/plugins/sdk"
+	phaseboundpb "github.com/phasebound/phasebound/proto/phasebound/v1"
+	"github.com/phasebound/phasebound/thermo"
+)
+
+// backendChunk bounds the points of one backend call on the exact path.
+const backendChunk = 1 << 20
+
+// Evaluate implements phasebound.v1.BoundaryService: P(T) or T(P) with
+// slopes (and, on request, phase volumes and latent heats) for a batch of
+// points on one curve, from the compiled tables unless the request asks
+// for the exact path.
+func (s *Server) Evaluate(ctx context.Context, req *phaseboundpb.EvaluateRequest) (*phaseboundpb.EvaluateResponse, error) {
+	if n := len(req.GetValues()); n > s.opts.MaxPointsPerRequest {
+		return nil, tooManyPoints(n, s.opts.MaxPointsPerRequest)
+	}
+	return s.evaluate(ctx, s.snap.Load(), req, 0)
+}
+
+// EvaluateStream implements phasebound.v1.BoundaryService: every request
+// message is one chunk, answered in order by one response that carries the
+// chunk's offset in the stream. All chunks are served by the catalog that
+// was current when the stream opened.
+func (s *Server) EvaluateStream(stream phaseboundpb.BoundaryService_EvaluateStreamServer) error {
+	snap := s.snap.Load()
+	ctx := stream.Context()
+	var offset uint64
+	for {
+		msg, err := stream.Recv()
+		if err == io.EOF {
+			return nil
+		}
+		if err != nil {
+			return err
+		}
+		req := msg.GetRequest()
+		if req == nil {
+			return invalidField("request", "stream message %d carries no request", offset)
+		}
+		n := len(req.GetValues())
+		if n > s.opts.MaxPointsPerRequest {
+			return tooManyPoints(n, s.opts.MaxPointsPerRequest)
+		}
+		resp, err := s.evaluate(ctx, snap, req, offset)
+		if err != nil {
+			return err
+		}
+		if err := stream.Send(&phaseboundpb.EvaluateStreamResponse{Response: resp, Offset: offset}); err != nil {
+			return err
+		}
+		offset += uint64(n)
+	}
+}
+
+// query is one validated Evaluate request.
+type query struct {
+	snap     *snapshot
+	sub      *substance
+	cv       *curve
+	byT      bool
+	branch   int // -1: chosen per point
+	req      *phaseboundpb.EvaluateRequest
+	offset   uint64
+	latent   bool
+	resp     *phaseboundpb.EvaluateResponse
+	noBranch uint32 // branch_names index used by failed points
+	// route[i] is the branch whose backend evaluates point i (exact path
+	// or extrapolation), or -1; nil when no point needs a backend.
+	route  []int32
+	failed int
+}
+
+// resolve validates the request fields that apply to the whole batch.
+func (s *Server) resolve(snap *snapshot, req *phaseboundpb.EvaluateRequest) (*query, error) {
+	sub, err := snap.substance(req.GetSubstance())
+	if err != nil {
+		return nil, err
+	}
+	kind, ok := KindFromProto(req.GetCurve())
+	if !ok {
+		return nil, invalidField("curve", "no curve kind given for %q (valid: %s)", sub.cat.ID, sub.kindChoices())
+	}
+	cv := sub.curveOf(kind)
+	if cv == nil {
+		return nil, invalidField("curve", "substance %q has no %v curve (valid: %s)", sub.cat.ID, kind, sub.kindChoices())
+	}
+	q := &query{snap: snap, sub: sub, cv: cv, branch: -1, req: req}
+	switch req.GetGiven() {
+	case phaseboundpb.Variable_VARIABLE_TEMPERATURE:
+		q.byT = true
+	case phaseboundpb.Variable_VARIABLE_PRESSURE:
+	default:
+		return nil, invalidField("given", "say whether values are temperatures or pressures (valid: VARIABLE_TEMPERATURE, VARIABLE_PRESSURE)")
+	}
+	if name := req.GetBranch(); name != "" {
+		q.branch = cv.branchIndex(name)
+		if q.branch < 0 {
+			return nil, invalidField("branch", "%s %v curve has no branch %q (valid: %s)", sub.cat.ID, kind, name, branchChoices(cv))
+		}
+	}
+	return q, nil
+}
+
+func branchChoices(cv *curve) string {
+	if len(cv.names) == 1 && cv.names[0] == "" {
+		return "the curve has a single unnamed branch; omit --branch"
+	}
+	return strings.Join(cv.names, ", ")
+}
+
+// evaluate answers one request (or one stream chunk at offset).
+func (s *Server) evaluate(ctx context.Context, snap *snapshot, req *phaseboundpb.EvaluateRequest, offset uint64) (*phaseboundpb.EvaluateResponse, error) {
+	q, err := s.resolve(snap, req)
+	if err != nil {
+		return nil, err
+	}
+	q.offset = offset
+	q.latent = req.GetIncludeLatentHeat()
+	n := len(req.GetValues())
+	r := &phaseboundpb.EvaluateResponse{
+		TemperatureK:   make([]float64, n),
+		PressurePa:     make([]float64, n),
+		DpdtPaPerK:     make([]float64, n),
+		BranchIndex:    make([]uint32, n),
+		Status:         make([]phaseboundpb.PointStatus, n),
+		BranchNames:    q.cv.names,
+		Exact:          req.GetExact(),
+		CatalogVersion: snap.version,
+	}
+	if q.latent {
+		r.LatentHeatJPerMol = make([]float64, n)
+		r.LatentHeatJPerKg = make([]float64, n)
+		r.VolumeLowTPhaseM3PerMol = make([]float64, n)
+		r.VolumeHighTPhaseM3PerMol = make([]float64, n)
+		r.LatentHeatSource = make([]phaseboundpb.LatentHeatSource, n)
+	}
+	q.resp = r
+	q.noBranch = uint32(len(q.cv.names))
+	for i, name := range q.cv.names {
+		if name == "" {
+			q.noBranch = uint32(i)
+		}
+	}
+
+	used := s.tablePass(ctx, q)
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	if req.GetStrict() && q.failed > 0 {
+		return nil, q.strictError()
+	}
+	if q.route != nil {
+		if err := s.backendPass(ctx, q); err != nil {
+			return nil, err
+		}
+		if req.GetStrict() && q.failed > 0 {
+			return nil, q.strictError()
+		}
+		q.sortErrors()
+	}
+	if !req.GetExact() {
+		for i, b := range q.cv.branch {
+			if used&(1<<min(i, 63)) != 0 {
+				r.TableMaxRelError = math.Max(r.TableMaxRelError, b.maxErr)
+			}
+		}
+	}
+	if q.noBranch == uint32(len(q.cv.names)) && q.failed > 0 {
+		r.BranchNames = append(append([]string(nil), q.cv.names...), "")
+	}
+	return r, nil
+}
+
+// tablePass evaluates every point from the tables, choosing branches and
+// refusing bad points; points that need a backend (the exact path,
+// extrapolation, T(P) on a branch that turns back) are marked in q.route.
+// It returns a bit set of the branches used.
+func (s *Server) tablePass(ctx context.Context, q *query) (used uint64) {
+	r := q.resp
+	vals := q.req.GetValues()
+	exact := q.req.GetExact()
+	extrap := q.req.GetAllowExtrapolation()
+	opts := thermo.CurveOptions{}
+	if q.branch >= 0 {
+		opts.Branch = q.cv.names[q.branch]
+	}
+	curve := q.cv.thermo
+	for i, x := range vals {
+		if i&0xffff == 0xffff && ctx.Err() != nil {
+			return used
+		}
+		var pt thermo.CurvePoint
+		var err error
+		if q.byT {
+			pt, err = curve.Pressure(x, opts)
+		} else {
+			pt, err = curve.Temperature(x, opts)
+		}
+		if err != nil {
+			var re *thermo.RangeError
+			switch {
+			case errors.As(err, &re) && extrap:
+				q.routeTo(i, q.nearestBranch(x))
+			case errors.Is(err, thermo.ErrNotImplemented):
+				b := q.branch
+				if b < 0 {
+					b = q.branchHolding(x)
+				}
+				q.routeTo(i, b)
+			default:
+				q.fail(i, err)
+			}
+			continue
+		}
+		used |= 1 << min(pt.Branch, 63)
+		r.TemperatureK[i] = pt.Temperature
+		r.PressurePa[i] = pt.Pressure
+		r.DpdtPaPerK[i] = pt.Slope
+		r.BranchIndex[i] = uint32(pt.Branch)
+		r.Status[i] = phaseboundpb.PointStatus_POINT_STATUS_OK
+		if exact {
+			q.routeTo(i, pt.Branch)
+			continue
+		}
+		if q.latent {
+			b := q.cv.branch[pt.Branch]
+			vl, vh := math.NaN(), math.NaN()
+			if b.hasVolumes() {
+				t := clamp(pt.Temperature, b.rng.Tmin, b.rng.Tmax)
+				vl, _ = b.vLow.Value(t)
+				vh, _ = b.vHigh.Value(t)
+			}
+			q.setLatent(i, b, vl, vh)
+		}
+	}
+	return used
+}
+
+func clamp(x, lo, hi float64) float64 { return math.Min(math.Max(x, lo), hi) }
+
+// routeTo sends point i to branch b's backend.
+func (q *query) routeTo(i, b int) {
+	if q.route == nil {
+		q.route = make([]int32, len(q.req.GetValues()))
+		for j := range q.route {
+			q.route[j] = -1
+		}
+	}
+	q.route[i] = int32(b)
+}
+
+// nearestBranch returns the branch to extrapolate with: the one named, or
+// the one whose range lies nearest x.
+func (q *query) nearestBranch(x float64) int {
+	if q.branch >= 0 {
+		return q.branch
+	}
+	best, dist := 0, math.Inf(1)
+	for i, b := range q.cv.branch {
+		lo, hi := b.rng.Pmin, b.rng.Pmax
+		if q.byT {
+			lo, hi = b.rng.Tmin, b.rng.Tmax
+		}
+		if d := math.Max(lo-x, x-hi); d < dist {
+			best, dist = i, d
+		}
+	}
+	return best
+}
+
+// branchHolding returns the first branch whose pressure range holds p.
+func (q *query) branchHolding(p float64) int {
+	for i, b := range q.cv.branch {
+		if b.rng.ContainsP(p) {
+			return i
+		}
+	}
+	return q.nearestBranch(p)
+}
+
+// fail marks point i failed with the status err calls for.
+func (q *query) fail(i int, err error) {
+	st := phaseboundpb.PointStatus_POINT_STATUS_INVALID
+	pe := &phaseboundpb.PointError{Index: uint32(i), Message: strings.TrimPrefix(err.Error(), "thermo: ")}
+	var re *thermo.RangeError
+	switch {
+	case errors.As(err, &re):
+		st = phaseboundpb.PointStatus_POINT_STATUS_OUT_OF_RANGE
+		pe.ValidMin, pe.ValidMax = re.Min, re.Max
+	case errors.Is(err, thermo.ErrAmbiguousBranch):
+		st = phaseboundpb.PointStatus_POINT_STATUS_AMBIGUOUS_BRANCH
+	}
+	q.failStatus(i, st, pe)
+}
+
+func (q *query) failStatus(i int, st phaseboundpb.PointStatus, pe *phaseboundpb.PointError) {
+	r := q.resp
+	nan := math.NaN()
+	pe.Status = st
+	r.Status[i] = st
+	r.TemperatureK[i], r.PressurePa[i], r.DpdtPaPerK[i] = nan, nan, nan
+	if q.byT {
+		r.TemperatureK[i] = q.req.Values[i]
+	} else {
+		r.PressurePa[i] = q.req.Values[i]
+	}
+	r.BranchIndex[i] = q.noBranch
+	if q.latent {
+		r.LatentHeatJPerMol[i], r.LatentHeatJPerKg[i] = nan, nan
+		r.VolumeLowTPhaseM3PerMol[i], r.VolumeHighTPhaseM3PerMol[i] = nan, nan
+		r.LatentHeatSource[i] = phaseboundpb.LatentHeatSource_LATENT_HEAT_SOURCE_POINT_FAILED
+	}
+	r.Errors = append(r.Errors, pe)
+	q.failed++
+}
+
+// setLatent fills the latent heat of point i from the phase volumes (NaN
+// when unknown) and the point's T, P and slope.
+func (q *query) setLatent(i int, b *branch, vl, vh float64) {
+	r := q.resp
+	t, p, d := r.TemperatureK[i], r.PressurePa[i], r.DpdtPaPerK[i]
+	h := math.NaN()
+	src := phaseboundpb.LatentHeatSource_LATENT_HEAT_SOURCE_NO_VOLUMES
+	switch {
+	case !math.IsNaN(vl) && !math.IsNaN(vh):
+		// Clapeyron equation: ΔH = T·(v_high − v_low)·dP/dT.
+		h = t * (vh - vl) * d
+		src = phaseboundpb.LatentHeatSource_LATENT_HEAT_SOURCE_CLAPEYRON
+	case q.cv.vapour:
+		// Clausius–Clapeyron: ideal vapour, condensed volume neglected,
+		// ΔH ≈ R·T²·d(ln P)/dT; the vapour volume reported is R·T/P.
+		h = thermo.R * t * t * d / p
+		vh = thermo.R * t / p
+		src = phaseboundpb.LatentHeatSource_LATENT_HEAT_SOURCE_IDEAL_GAS_ESTIMATE
+	}
+	r.LatentHeatJPerMol[i] = h
+	r.LatentHeatJPerKg[i] = h / q.sub.cat.MolarMass
+	if q.sub.cat.MolarMass <= 0 {
+		r.LatentHeatJPerKg[i] = math.NaN()
+	}
+	r.VolumeLowTPhaseM3PerMol[i] = vl
+	r.VolumeHighTPhaseM3PerMol[i] = vh
+	r.LatentHeatSource[i] = src
+}
+
+// strictError is the whole-call error of a strict request: OutOfRange when
+// every bad point is out of range, else InvalidArgument, with one field
+// violation per bad point naming values[i] (i counted from the start of
+// the stream) and the valid range.
+func (q *query) strictError() error {
+	code := codes.OutOfRange
+	q.sortErrors()
+	vs := make([]violation, 0, min(len(q.resp.Errors), maxViolations))
+	for k, e := range q.resp.Errors {
+		if e.Status != phaseboundpb.PointStatus_POINT_STATUS_OUT_OF_RANGE {
+			code = codes.InvalidArgument
+		}
+		if k < maxViolations {
+			vs = append(vs, violation{fmt.Sprintf("values[%d]", q.offset+uint64(e.Index)), e.Message})
+		}
+	}
+	return badRequestN(code, len(q.resp.Errors), vs)
+}
+
+// sortErrors puts the point errors in index order (the backend pass
+// appends after the table pass).
+func (q *query) sortErrors() {
+	slices.SortStableFunc(q.resp.Errors, func(a, b *phaseboundpb.PointError) int { return cmp.Compare(a.Index, b.Index) })
+}
+
+// backendPass evaluates the routed points through their branches'
+// backends, a batch per branch.
+func (s *Server) backendPass(ctx context.Context, q *query) error {
+	r := q.resp
+	vals := q.req.GetValues()
+	extrap := q.req.GetAllowExtrapolation()
+	op := sdk.OpTemperature
+	if q.byT {
+		op = sdk.OpPressure
+	}
+	for bi, b := range q.cv.branch {
+		var idx []int
+		for i, rb := range q.route {
+			if int(rb) == bi {
+				idx = append(idx, i)
+			}
+		}
+		for lo := 0; lo < len(idx); lo += backendChunk {
+			part := idx[lo:min(lo+backendChunk, len(idx))]
+			x := make([]float64, len(part))
+			for k, i := range part {
+				x[k] = vals[i]
+			}
+			res, err := s.host.Evaluate(ctx, b.backend, sdk.EvalRequest{
+				Family: b.cat.Family, Params: b.cat.Params, Tmin: b.cat.Tmin, Tmax: b.cat.Tmax,
+				Op: op, Values: x, AllowExtrapolation: extrap,
+			})
+			if err != nil {
+				return backendStatus(err)
+			}
+			failed := make(map[int]sdk.Failure, len(res.Failures))
+			for _, f := range res.Failures {
+				failed[f.Index] = f
+			}
+			outside := make(map[int]bool, len(res.Extrapolated))
+			for _, k := range res.Extrapolated {
+				outside[k] = true
+			}
+			var ok []int // indices into part that succeeded
+			for k, i := range part {
+				if f, bad := failed[k]; bad {
+					q.failBackend(i, f)
+					continue
+				}
+				if q.byT {
+					r.TemperatureK[i], r.PressurePa[i] = vals[i], res.Results[k]
+				} else {
+					r.TemperatureK[i], r.PressurePa[i] = res.Results[k], vals[i]
+				}
+				r.DpdtPaPerK[i] = res.Derivatives[k]
+				r.BranchIndex[i] = uint32(bi)
+				r.Status[i] = phaseboundpb.PointStatus_POINT_STATUS_OK
+				if outside[k] {
+					r.Status[i] = phaseboundpb.PointStatus_POINT_STATUS_EXTRAPOLATED
+				}
+				ok = append(ok, k)
+			}
+			if q.latent && len(ok) > 0 {
+				if err := s.backendLatent(ctx, q, b, part, ok); err != nil {
+					return err
+				}
+			}
+		}
+	}
+	return nil
+}
+
+// backendLatent fills latent heats of backend-evaluated points, with the
+// phase volumes from their backends.
+func (s *Server) backendLatent(ctx context.Context, q *query, b *branch, part, ok []int) error {
+	r := q.resp
+	nan := math.NaN()
+	vl := make([]float64, len(ok))
+	vh := make([]float64, len(ok))
+	for k := range ok {
+		vl[k], vh[k] = nan, nan
+	}
+	if b.hasVolumes() {
+		ts := make([]float64, len(ok))
+		ps := make([]float64, len(ok))
+		for k, j := range ok {
+			i := part[j]
+			ts[k], ps[k] = r.TemperatureK[i], r.PressurePa[i]
+		}
+		for side, vc := range [2]struct {
+			be  string
+			out []float64
+		}{{b.vLowBE, vl}, {b.vHighBE, vh}} {
+			c := b.cat.VolumeLow
+			if side == 1 {
+				c = b.cat.VolumeHigh
+			}
+			res, err := s.host.Evaluate(ctx, vc.be, sdk.EvalRequest{
+				Family: c.Family, Params: c.Params, Tmin: b.cat.Tmin, Tmax: b.cat.Tmax,
+				Op: sdk.OpVolume, Values: ts, Pressures: ps, AllowExtrapolation: q.req.GetAllowExtrapolation(),
+			})
+			if err != nil {
+				return backendStatus(err)
+			}
+			copy(vc.out, res.Results)
+			for _, f := range res.Failures {
+				vc.out[f.Index] = nan
+			}
+		}
+	}
+	for k, j := range ok {
+		q.setLatent(part[j], b, vl[k], vh[k])
+	}
+	return nil
+}
+
+// failBackend marks point i failed as the backend reported.
+func (q *query) failBackend(i int, f sdk.Failure) {
+	pe := &phaseboundpb.PointError{Index: uint32(i), Message: f.Message}
+	st := phaseboundpb.PointStatus_POINT_STATUS_INVALID
+	if f.Kind == sdk.FailOutOfRange {
+		st = phaseboundpb.PointStatus_POINT_STATUS_OUT_OF_RANGE
+		pe.ValidMin, pe.ValidMax = f.Min, f.Max
+	}
+	q.failStatus(i, st, pe)
+}
