@@ -40,6 +40,7 @@ type Metrics struct {
 	tableBuild     *prometheus.GaugeVec
 	tableError     *prometheus.GaugeVec
 	reloads        *prometheus.CounterVec
+	compile        prometheus.Gauge
 
 	mu         sync.RWMutex
 	substances map[string]bool // known ids; label values other than these become "other"
@@ -89,13 +90,17 @@ func New() *Metrics {
 			Name: "phasebound_table_max_rel_error",
 			Help: "Measured maximum relative error of a branch's tables against its backend on the dense check grid.",
 		}, []string{"substance", "curve", "branch"}),
+		compile: prometheus.NewGauge(prometheus.GaugeOpts{
+			Name: "phasebound_catalog_compile_seconds",
+			Help: "Time the last successful catalog load or reload took, backends and tables included.",
+		}),
 		reloads: prometheus.NewCounterVec(prometheus.CounterOpts{
 			Name: "phasebound_catalog_reloads_total",
 			Help: "Catalog reloads (SIGHUP), by result (ok or failed).",
 		}, []string{"result"}),
 	}
 	m.reg.MustRegister(m.requests, m.points, m.pointFailures, m.latency, m.errors, m.inFlight,
-		m.pluginRestarts, m.tableBuild, m.tableError, m.reloads,
+		m.pluginRestarts, m.tableBuild, m.tableError, m.reloads, m.compile,
 		collectors.NewGoCollector(), collectors.NewProcessCollector(collectors.ProcessCollectorOpts{}))
 	return m
 }
@@ -155,12 +160,22 @@ func (m *Metrics) ObserveTable(substance, curve, branch string, seconds, maxRelE
 	m.tableError.WithLabelValues(substance, curve, branch).Set(maxRelErr)
 }
 
+// ObserveTableError records the measured error of one branch's tables
+// (when the build time is not known).
+func (m *Metrics) ObserveTableError(substance, curve, branch string, maxRelErr float64) {
+	m.tableError.WithLabelValues(substance, curve, branch).Set(maxRelErr)
+}
+
 // ResetTables forgets the table gauges, before a reload records the new
 // catalog's tables (so removed branches disappear).
 func (m *Metrics) ResetTables() {
 	m.tableBuild.Reset()
 	m.tableError.Reset()
 }
+
+// ObserveCatalogCompile records how long the last successful catalog load
+// or reload took, tables included.
+func (m *Metrics) ObserveCatalogCompile(seconds float64) { m.compile.Set(seconds) }
 
 // PluginRestarted counts one restart of the named backend.
 func (m *Metrics) PluginRestarted(backend string) { m.pluginRestarts.WithLabelValues(backend).Inc() }
