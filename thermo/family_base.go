@@ -256,29 +256,26 @@ func (c *curve) TemperatureBeyond(p float64) (float64, error) {
 }
 
 // scan walks outward from the range end t0 (P = p0 there) in direction dir
-// until P crosses p, then solves. Steps grow geometrically and stop at the
-// formula's domain or where P stops being a positive finite number.
+// until P crosses p, then solves. Steps start at 1 % of the range width and
+// double, never passing the formula's domain edge (they approach it
+// geometrically); the walk stops where P stops being a positive finite
+// number or after 60 steps.
 func (c *curve) scan(p, t0, p0 float64, dir int) (float64, bool, error) {
+	step := 0.01 * (c.rng.Tmax - c.rng.Tmin)
+	edge := c.domHi - t0 // distance to the domain edge, may be +Inf
+	if dir < 0 {
+		edge = t0 - c.domLo
+	}
 	prevT, prevP := t0, p0
 	for k := 1; k <= 60; k++ {
-		var t float64
-		frac := 1 - math.Ldexp(1, -k)
-		switch {
-		case dir < 0:
-			t = t0 - (t0-c.domLo)*frac
-		case math.IsInf(c.domHi, 1):
-			t = t0 * math.Ldexp(1, k)
-		default:
-			t = t0 + (c.domHi-t0)*frac
-		}
+		off := math.Min(step*(math.Ldexp(1, k)-1), edge*(1-math.Ldexp(1, -k)))
+		t := t0 + float64(dir)*off
 		if t <= 0 || t == prevT {
 			break
 		}
 		q, _ := c.f(t)
 		if math.IsNaN(q) || math.IsInf(q, 0) || q <= 0 {
-			// The formula ends between prevT and t; a root there
-			// with P > 0 is still possible but the formula has no
-			// meaningful continuation past it.
+			// The formula has no meaningful continuation past here.
 			break
 		}
 		if (prevP-p)*(q-p) <= 0 {
@@ -289,9 +286,6 @@ func (c *curve) scan(p, t0, p0 float64, dir int) (float64, bool, error) {
 			return r, true, nil
 		}
 		prevT, prevP = t, q
-		if math.IsInf(c.domHi, 1) && dir > 0 && t > 1e7 {
-			break
-		}
 	}
 	return math.NaN(), false, nil
 }
