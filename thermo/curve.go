@@ -56,6 +56,12 @@ type Branch struct {
 // Curve is a coexistence curve made of one or more branches, in the order
 // the catalog lists them; that order breaks ties (see Pressure).
 //
+// Branches that meet at a triple point rarely meet exactly: water's ice-V
+// branch ends at 632.3993 MPa and the ice-VI branch starts at 632.4 MPa. A
+// value in such a seam, narrower than BranchMeetTolerance relative to the
+// value, is served by the nearest branch just beyond its range (through its
+// Extrapolator) and is not flagged as extrapolated.
+//
 // Branches may overlap in temperature: P(T) is then several-valued (water's
 // melting curve at 254 K crosses both the ice-Ih and the ice-III branch)
 // and an automatic P(T) there is an error naming the branches. T(P) picks
@@ -219,10 +225,17 @@ func (c *Curve) Pressure(t float64, o CurveOptions) (CurvePoint, error) {
 		}
 	}
 	if count == 0 {
+		i, dist := c.nearest(t, true)
+		if dist <= BranchMeetTolerance*t {
+			if pt, err := c.pressureOn(i, t, true); err == nil {
+				pt.Extrapolated = false // inside a seam between branches, not beyond the curve
+				return pt, nil
+			}
+		}
 		if !o.AllowExtrapolation {
 			return CurvePoint{}, c.coverageError(t, true)
 		}
-		return c.pressureOn(c.nearest(t, true), t, true)
+		return c.pressureOn(i, t, true)
 	}
 	pt, err := c.pressureOn(first, t, false)
 	if err != nil || count == 1 {
@@ -273,10 +286,17 @@ func (c *Curve) Temperature(p float64, o CurveOptions) (CurvePoint, error) {
 		}
 	}
 	if count == 0 {
+		i, dist := c.nearest(p, false)
+		if dist <= BranchMeetTolerance*p {
+			if pt, err := c.temperatureOn(i, p, true); err == nil {
+				pt.Extrapolated = false // inside a seam between branches, not beyond the curve
+				return pt, nil
+			}
+		}
 		if !o.AllowExtrapolation {
 			return CurvePoint{}, c.coverageError(p, false)
 		}
-		return c.temperatureOn(c.nearest(p, false), p, true)
+		return c.temperatureOn(i, p, true)
 	}
 	pt, err := c.temperatureOn(first, p, false)
 	if err != nil || count == 1 {
@@ -373,8 +393,9 @@ func (c *Curve) crvInterval(i int, byT bool) (lo, hi float64) {
 	return r.Pmin, r.Pmax
 }
 
-// nearest returns the branch whose interval is nearest v (the first on a tie).
-func (c *Curve) nearest(v float64, byT bool) int {
+// nearest returns the branch whose interval is nearest v (the first on a
+// tie) and the distance from v to that interval.
+func (c *Curve) nearest(v float64, byT bool) (int, float64) {
 	best, dist := 0, math.Inf(1)
 	for i := range c.Branches {
 		lo, hi := c.crvInterval(i, byT)
@@ -383,7 +404,7 @@ func (c *Curve) nearest(v float64, byT bool) int {
 			best, dist = i, d
 		}
 	}
-	return best
+	return best, dist
 }
 
 // matching lists the names of the branches whose interval holds v.
@@ -411,7 +432,7 @@ func (c *Curve) coverageError(v float64, byT bool) error {
 	merged := ivs[:1]
 	for _, x := range ivs[1:] {
 		last := &merged[len(merged)-1]
-		if x.lo <= last.hi {
+		if x.lo <= last.hi+BranchMeetTolerance*math.Abs(x.lo) {
 			last.hi = math.Max(last.hi, x.hi)
 		} else {
 			merged = append(merged, x)
