@@ -202,7 +202,8 @@ func (br *branch) vapour() bool {
 	return br.kind == thermo.Saturation || br.kind == thermo.Sublimation
 }
 
-// latentHeat returns ΔH = T·(v_high − v_low)·dP/dT and ΔV at t.
+// latentHeat returns the served latent heat ΔH = T·(v_high − v_low)·dP/dT
+// (thermo.LatentHeatAt, the same computation the server makes) and ΔV at t.
 func (br *branch) latentHeat(t float64) (dh, dv float64, err error) {
 	if br.low == nil || br.high == nil {
 		return 0, 0, thermo.ErrNotImplemented
@@ -211,16 +212,11 @@ func (br *branch) latentHeat(t float64) (dh, dv float64, err error) {
 	if err != nil {
 		return 0, 0, err
 	}
-	vl, _, err := br.low.Volume(t, p)
+	lh, err := thermo.LatentHeatAt(br.kind, t, p, s, thermo.PhaseVolumes{Low: br.low, High: br.high}, 0)
 	if err != nil {
-		return 0, 0, fmt.Errorf("low-temperature phase volume: %w", err)
+		return 0, 0, err
 	}
-	vh, _, err := br.high.Volume(t, p)
-	if err != nil {
-		return 0, 0, fmt.Errorf("high-temperature phase volume: %w", err)
-	}
-	dv = vh - vl
-	return t * dv * s, dv, nil
+	return lh.Molar, lh.VolumeHigh - lh.VolumeLow, nil
 }
 
 // idealGasHeat is the ideal-gas Clausius–Clapeyron estimate R·T²·(dP/dT)/P.
@@ -229,7 +225,7 @@ func (br *branch) idealGasHeat(t float64) (float64, error) {
 	if err != nil {
 		return 0, err
 	}
-	return thermo.R * t * t * s / p, nil
+	return thermo.IdealGasEnthalpy(t, p, s)
 }
 
 type auditor struct {

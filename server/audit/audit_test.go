@@ -67,9 +67,10 @@ func TestGoodCatalogIsClean(t *testing.T) {
 // measured value where the break fixes it analytically (invented data).
 func TestBrokenCatalogs(t *testing.T) {
 	t.Parallel()
-	// Linearised gap of the shifted sublimation curve: ΔP/(dP/dT) with
-	// dP/dT = P·ΔH/(R·T²) at 200 K, 1000 Pa, 26 kJ/mol; ΔP = 100 Pa.
-	shiftGapK := 100 / (1000 * 26000 / (thermo.R * 200 * 200))
+	// Linearised gap of the shifted sublimation curve: ΔP/(dP/dT) with the
+	// shifted curve's slope dP/dT = P·ΔH/(R·T²) at 200 K, 1100 Pa,
+	// 26 kJ/mol; ΔP = 100 Pa.
+	shiftGapK := 100 / (1100 * 26000 / (thermo.R * 200 * 200))
 	tests := []struct {
 		file     string
 		code     string
