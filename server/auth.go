@@ -16,6 +16,7 @@ import (
 	"google.golang.org/grpc"
 	"google.golang.org/grpc/codes"
 	"google.golang.org/grpc/credentials"
+	healthpb "google.golang.org/grpc/health/grpc_health_v1"
 	"google.golang.org/grpc/metadata"
 	"google.golang.org/grpc/status"
 )
@@ -248,4 +249,13 @@ func loadCertPool(path string) (*x509.CertPool, error) {
 		return nil, fmt.Errorf("client CA bundle %s holds no PEM certificate", path)
 	}
 	return pool, nil
+}
+
+// RegisterHealth registers only the server's gRPC health service on g, for
+// a separate plain-text listener that probes reach without credentials
+// (the Kubernetes grpc probe speaks neither TLS nor bearer tokens). It
+// reports the same status as the main listener: NOT_SERVING once Shutdown
+// or Close is called.
+func (s *Server) RegisterHealth(g *grpc.Server) {
+	healthpb.RegisterHealthServer(g, s.health)
 }

@@ -14,7 +14,7 @@ package main
 //
 // --token-file, --tls-cert and --tls-key are the global flags (type app);
 // this file adds --tls-client-ca, --insecure, --metrics-listen, --max-points
-// and --max-concurrency to serve.
+// --max-concurrency and --health-listen to serve.
 
 import (
 	"context"
@@ -42,8 +42,10 @@ type serveSecurity struct {
 	metricsListen  string // --metrics-listen; "" is off
 	maxPoints      int    // --max-points
 	maxConcurrency int    // --max-concurrency
+	healthListen   string // --health-listen; "" is off
 
-	sec *server.Security
+	sec       *server.Security
+	healthLis net.Listener // bound by grpcOptions, served by afterStart
 }
 
 // addServeSecurityFlags adds the security, limit and metrics flags to the
@@ -56,6 +58,7 @@ func addServeSecurityFlags(cmd *cobra.Command) *serveSecurity {
 	fl.StringVar(&f.metricsListen, "metrics-listen", "", "serve Prometheus metrics at http://HOST:PORT/metrics (e.g. 127.0.0.1:9464); default: off")
 	fl.IntVar(&f.maxPoints, "max-points", server.DefaultMaxPointsPerRequest, "maximum points in one request; larger requests get ResourceExhausted (use a stream)")
 	fl.IntVar(&f.maxConcurrency, "max-concurrency", 0, "calls served at once, beyond which calls queue briefly and then get ResourceExhausted; 0: 4 per CPU")
+	fl.StringVar(&f.healthListen, "health-listen", "", "also serve only the gRPC health service, plain-text and without token, on HOST:PORT (for probes that cannot do TLS, such as Kubernetes grpc probes); default: off")
 	return f
 }
 
@@ -112,6 +115,13 @@ func (f *serveSecurity) grpcOptions(ctx context.Context, a *app, listen string, 
 		}
 		log.Info("metrics listening", "url", "http://"+addr.String()+"/metrics")
 	}
+	if f.healthListen != "" {
+		lis, err := net.Listen("tcp", f.healthListen)
+		if err != nil {
+			return nil, fmt.Errorf("--health-listen %s: %w", f.healthListen, err)
+		}
+		f.healthLis = lis
+	}
 	log.Info("security", "tls", sec.TLS(), "mutual_tls", sec.MutualTLS(), "token", sec.TokenRequired(),
 		"max_points", maxPoints, "max_concurrency", lim.Config().MaxConcurrency)
 	return gopts, nil
@@ -150,12 +160,20 @@ func isLoopbackListen(listen string) bool {
 	return err == nil && ip.Unmap().IsLoopback()
 }
 
-// afterStart names the catalog's substances in the metrics and, until ctx
-// ends, reloads on SIGHUP: the catalog through srv.ReloadFrom (a bad
+// afterStart names the catalog's substances in the metrics, serves the
+// health-only listener when --health-listen is set and, until ctx ends,
+// reloads on SIGHUP: the catalog through srv.ReloadFrom (a bad
 // catalog keeps the served one, and the log says why), then the token file
 // and the TLS certificate (a bad one keeps those in use).
 func (f *serveSecurity) afterStart(ctx context.Context, srv *server.Server, load func() (*catalog.Catalog, error), log *slog.Logger) {
 	srv.RecordMetrics(ctx, metrics.Default())
+	if f.healthLis != nil {
+		hg := grpc.NewServer()
+		srv.RegisterHealth(hg)
+		go hg.Serve(f.healthLis)
+		context.AfterFunc(ctx, hg.Stop)
+		log.Info("health listening (plain-text, health service only)", "addr", f.healthLis.Addr().String())
+	}
 	hup := make(chan os.Signal, 1)
 	signal.Notify(hup, syscall.SIGHUP)
 	go func() {
