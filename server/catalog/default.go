@@ -11,6 +11,8 @@ import (
 	"sync"
 )
 
+//go:generate go run ../../testdata/demo/gen/main.go -dir ../../testdata/demo
+
 //go:embed default/*.toml
 var defaultFS embed.FS
 

@@ -1,0 +1,118 @@
+package catalog
+
+import (
+	"bytes"
+	"math"
+	"reflect"
+	"strings"
+	"testing"
+
+	"github.com/phasebound/phasebound/thermo"
+)
+
+// content returns c's backends and substances without positions, for
+// comparing a catalog with its round trip.
+func content(c *Catalog) ([]Backend, []Substance) {
+	var subs []Substance
+	for _, s := range c.Substances {
+		cp := *s
+		cp.Line = 0
+		cp.Curves = nil
+		for _, cv := range s.Curves {
+			ccv := &Curve{Kind: cv.Kind}
+			for _, b := range cv.Branches {
+				cb := *b
+				cb.Line = 0
+				ccv.Branches = append(ccv.Branches, &cb)
+			}
+			cp.Curves = append(cp.Curves, ccv)
+		}
+		subs = append(subs, cp)
+	}
+	return c.Backends, subs
+}
+
+// roundTrip writes c, parses the text and reports any difference.
+func roundTrip(t testing.TB, c *Catalog) string {
+	t.Helper()
+	var buf bytes.Buffer
+	if err := Write(&buf, c); err != nil {
+		t.Fatalf("Write: %v", err)
+	}
+	back, err := Parse("written.toml", buf.Bytes())
+	if err != nil {
+		t.Fatalf("Parse of the written catalog: %v\n%s", err, buf.String())
+	}
+	b1, s1 := content(c)
+	b2, s2 := content(back)
+	if !equalContent(b1, b2, s1, s2) {
+		t.Errorf("the catalog differs after the round trip:\n%s", buf.String())
+	}
+	return buf.String()
+}
+
+func equalContent(b1, b2 []Backend, s1, s2 []Substance) bool {
+	return reflect.DeepEqual(b1, b2) && reflect.DeepEqual(s1, s2)
+}
+
+func TestWriteRoundTrip(t *testing.T) {
+	t.Parallel()
+	good, err := Parse("good.toml", []byte(readGood(t)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := roundTrip(t, good)
+	for _, want := range []string{
+		"format = 1\n",
+		"[[backend]]\nname = \"lab-fits\"\n",
+		"    [[substance.curve.branch]]\n    name = \"solid-I\"\n    family = \"simon-glatzel\"\n",
+		"    [substance.curve.branch.params]\n    a = 3e+08\n    c = 2.0\n",
+		"    slope = [3e+06, 1000.0]\n",
+		"    [substance.curve.branch.volume_low]\n    family = \"linear-density\"\n",
+	} {
+		if !strings.Contains(text, want) {
+			t.Errorf("written catalog lacks %q:\n%s", want, text)
+		}
+	}
+	def, err := Default()
+	if err != nil {
+		t.Fatal(err)
+	}
+	roundTrip(t, def)
+}
+
+func TestWriteBuiltCatalog(t *testing.T) {
+	t.Parallel()
+	// A catalog built in code, as the fit command does, with awkward text
+	// and numbers.
+	c := &Catalog{
+		Source: "fit\nresult",
+		Substances: []*Substance{{
+			ID: "lab-sample", Name: "Sample \"A\"\t\\ with ü and \x01", MolarMass: 0.1,
+			Provenance: Provenance{Kind: Fit, DataFile: "runs/2026-11.csv", DataSHA256: strings.Repeat("0", 64), Note: "line one\nline two"},
+			Curves: []*Curve{{Kind: thermo.Saturation, Branches: []*Branch{{
+				Correlation: Correlation{Family: "clausius-clapeyron", Params: thermo.Params{"t0": {300}, "p0": {1e5}, "delta_h": {4.0000000000000001e4}}},
+				Tmin:        250, Tmax: 350.5,
+				Uncertainty: "±2 % (k=2)",
+				Provenance:  Provenance{Kind: Fit, DataFile: "runs/2026-11.csv", DataSHA256: strings.Repeat("0", 64)},
+				Reference:   &Reference{Temperature: 300, DeltaH: 4e4, DeltaV: math.SmallestNonzeroFloat64},
+			}}}},
+		}},
+	}
+	roundTrip(t, c)
+}
+
+func TestNum(t *testing.T) {
+	t.Parallel()
+	for _, tc := range []struct {
+		v    float64
+		want string
+	}{
+		{1, "1.0"}, {-2, "-2.0"}, {0.1, "0.1"}, {1e21, "1e+21"}, {2.5e-7, "2.5e-07"},
+		{math.Inf(1), "inf"}, {math.Inf(-1), "-inf"}, {math.NaN(), "nan"}, {math.Copysign(0, -1), "-0.0"},
+	} {
+		if got := num(tc.v); got != tc.want {
+			t.Errorf("num(%v) = %q, want %q", tc.v, got, tc.want)
+		}
+	}
+}
