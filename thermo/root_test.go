@@ -36,6 +36,8 @@ func TestRootFinder(t *testing.T) {
 			return math.Log(x), 1 / x
 		}, 0, 10, 1},
 		{"root at zero", func(x float64) (float64, float64) { return math.Sin(x), math.Cos(x) }, -1, 0.5, 0},
+		{"triple root at zero", func(x float64) (float64, float64) { return -x * x * x, -3 * x * x }, -49, 143, 0},
+		{"root near underflow", func(x float64) (float64, float64) { return x + 1e-300, 1 }, -6, 0, -1e-300},
 		{"large scale", func(x float64) (float64, float64) { return x - 6.3e9, 1 }, 1e9, 2e10, 6.3e9},
 		{"vapour-like ln P", func(T float64) (float64, float64) { return 20 - 5000/T - math.Log(1e5), 5000 / (T * T) }, 200, 700, 5000 / (20 - math.Log(1e5))},
 	} {
@@ -50,7 +52,7 @@ func TestRootFinder(t *testing.T) {
 		if tc.name == "flat near root (x^5)" {
 			tol = 1e-3
 		}
-		if !scalar.EqualWithinAbsOrRel(got, tc.want, 1e-300, tol) {
+		if !scalar.EqualWithinAbsOrRel(got, tc.want, 1e-305, tol) {
 			t.Errorf("%s: root %.17g, want %.17g", tc.name, got, tc.want)
 		}
 	}
@@ -103,6 +105,8 @@ func FuzzRoot(f *testing.F) {
 	f.Add(1e-3, 0.0, 0.0, -1e-9, 0.0, 1.0)
 	f.Add(5.0, -5.0, 1.0, 0.0, -1e3, 1e3)
 	f.Add(0.0, 0.0, 1.0, 1e-300, -1.0, 1.0)
+	f.Add(0.0, 0.0, 1.0, 1e-300, -6.0, 0.0)   // root near the underflow limit, bracket ending at 0
+	f.Add(-68.0, 0.0, 0.0, 0.0, -49.0, 143.0) // triple root at 0: Newton converges only linearly
 	f.Fuzz(func(t *testing.T, c3, c2, c1, c0, a, b float64) {
 		for _, v := range []float64{c3, c2, c1, c0, a, b} {
 			if math.IsNaN(v) || math.IsInf(v, 0) || math.Abs(v) > 1e6 {
