@@ -16,6 +16,7 @@ import (
 
 	"github.com/BurntSushi/toml"
 
+	"github.com/phasebound/phasebound/plugins/sdk"
 	"github.com/phasebound/phasebound/thermo"
 )
 
@@ -36,15 +37,28 @@ var (
 	sha256Pattern = regexp.MustCompile(`^[0-9a-fA-F]{64}$`)
 )
 
-// standardBackends are the backends built into phasebound; they need no
-// [[backend]] entry. Keep in step with plugins/sdk.StandardNames.
-var standardBackends = []string{"solid", "vapor", "volume"}
+// standardBackends are the backends built into phasebound (plugins/sdk);
+// they need no [[backend]] entry.
+var standardBackends = sdk.StandardNames()
 
 // StandardBackends returns the names of the standard backends, sorted.
 func StandardBackends() []string { return slices.Clone(standardBackends) }
 
 // IsStandardBackend reports whether name is a standard backend.
 func IsStandardBackend(name string) bool { return slices.Contains(standardBackends, name) }
+
+// checkStandard checks that the standard backend named (or, for "", the
+// one the server will pick) serves family.
+func (n *node) checkStandard(key, backend, family string) error {
+	std, err := sdk.StandardFor(family)
+	if err != nil {
+		return n.errAt(key, fmt.Errorf("no standard backend serves family %q: name a [[backend]] that does", family))
+	}
+	if backend != "" && backend != std {
+		return n.errAt(key, fmt.Errorf("%s %q does not serve family %q (the standard backend %q does; or leave backend \"\")", n.fq(key), backend, family, std))
+	}
+	return nil
+}
 
 // Parse reads a catalog from data; name is used in error messages and as
 // the catalog's Source. Every error is an *Error naming the file, line and
@@ -603,6 +617,9 @@ func (d *decoder) volume(n *node, key string, s *Substance, b *Branch, c *Catalo
 	if err != nil {
 		return nil, nil, vn.errAt("family", fmt.Errorf("%s.family %q is not known (valid: %s)", key, v.Family, strings.Join(thermo.VolumeFamilyNames(), ", ")))
 	}
+	if err := vn.checkStandard("backend", v.Backend, v.Family); err != nil {
+		return nil, nil, err
+	}
 	if _, err := newVolume(fam, v.Params, b.Tmin, b.Tmax); err != nil {
 		return nil, nil, vn.errAt("params", fmt.Errorf("volume family %q: %w", v.Family, err))
 	}
@@ -706,6 +723,9 @@ func (d *decoder) checkFamily(n *node, b *Branch) error {
 	fam, err := thermo.GetFamily(b.Family)
 	if err != nil {
 		return n.errAt("family", fmt.Errorf("family %q is not known (valid: %s)", b.Family, strings.Join(thermo.FamilyNames(), ", ")))
+	}
+	if err := n.checkStandard("backend", b.Backend, b.Family); err != nil {
+		return err
 	}
 	corr, err := newCorrelation(fam, b.Params, b.Tmin, b.Tmax)
 	if err != nil {
