@@ -69,7 +69,7 @@ func (f ShiftedPowerSumFamily) New(p Params, tmin, tmax float64) (Correlation, e
 			ErrBadParam, name, tmin, tr)
 	}
 	fn := func(t float64) (float64, float64) {
-		x := t/tr - 1
+		x := (t - tr) / tr // exact difference: no rounding of T/T* near T*
 		s, d := 1.0, 0.0
 		for i, ai := range a {
 			s += ai * math.Pow(x, b[i])

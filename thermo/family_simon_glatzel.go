@@ -62,9 +62,10 @@ func (f SimonGlatzelFamily) New(p Params, tmin, tmax float64) (Correlation, erro
 		return nil, fmt.Errorf("%w: %s: c = 0 gives a flat curve; need c ≠ 0", ErrBadParam, name)
 	}
 	fn := func(t float64) (float64, float64) {
-		x := t / t0
-		xc := math.Pow(x, c)
-		return p0 + a*(xc-1), a * c * xc / t
+		// (T/T0)^c − 1 as expm1(c·log1p((T − T0)/T0)), free of the
+		// cancellation near T0.
+		lx := c * math.Log1p((t-t0)/t0)
+		return p0 + a*math.Expm1(lx), a * c * math.Exp(lx) / t
 	}
 	inv := func(q float64) (float64, bool) {
 		x := (q-p0)/a + 1

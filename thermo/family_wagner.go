@@ -73,7 +73,7 @@ func (f WagnerFamily) New(p Params, tmin, tmax float64) (Correlation, error) {
 			ErrBadParam, name, tmax, tr)
 	}
 	fn := func(t float64) (float64, float64) {
-		tau := 1 - t/tr
+		tau := (tr - t) / tr // exact difference: no rounding of T/T_ref near T_ref
 		s, d := 0.0, 0.0
 		for i, ai := range a {
 			x := math.Pow(tau, e[i]-1) // τ^(eᵢ−1)
