@@ -117,8 +117,8 @@ func (s *Security) Reload() error {
 		}
 		d := sha256.Sum256([]byte(tok))
 		digest = &d
-		if fi, err := os.Stat(s.cfg.TokenFile); err == nil && fi.Mode().Perm()&0o077 != 0 && s.cfg.Logger != nil {
-			s.cfg.Logger.Warn("token file is readable by other users; chmod 600 it", "file", s.cfg.TokenFile, "mode", fi.Mode().Perm().String())
+		if fi, err := os.Stat(s.cfg.TokenFile); err == nil && fi.Mode().Perm()&0o007 != 0 && s.cfg.Logger != nil {
+			s.cfg.Logger.Warn("token file is readable by every user; chmod 600 it", "file", s.cfg.TokenFile, "mode", fi.Mode().Perm().String())
 		}
 	}
 	var cert *tls.Certificate
