@@ -7,7 +7,7 @@ import (
 )
 
 // famIceSubl is the IAPWS R14-08(2011) sublimation equation of ice Ih
-// (eq. 11, Table 4), valid from 50 K to 273.16 K.
+// (from memory), valid from 50 K to 273.16 K.
 var famIceSubl = Params{"t_ref": {273.16}, "p_ref": {611.657},
 	"a": {-0.212144006e2, 0.273203819e2, -0.610598130e1},
 	"b": {0.333333333e-2, 0.120666667e1, 0.170333333e1}}
@@ -20,7 +20,7 @@ func TestSublimationIceIh(t *testing.T) {
 	for _, tc := range []struct {
 		T, p, tol float64
 	}{
-		{230, 8.94735, 5e-6},    // IAPWS R14-08(2011), Table 5 check value (from memory)
+		{230, 8.94735, 5e-6},    // IAPWS R14-08(2011), sublimation-pressure check value (from memory)
 		{273.16, 611.657, 1e-8}, // IAPWS R14-08(2011): triple point, the reference point
 	} {
 		p, err := c.Pressure(tc.T)

@@ -6,7 +6,7 @@ import (
 	"gonum.org/v1/gonum/floats/scalar"
 )
 
-// famIceVII is the IAPWS R14-08(2011) ice VII melting equation (eq. 10),
+// famIceVII is the IAPWS R14-08(2011) ice VII melting equation,
 // ln(p/p*) = Σ aᵢ(1 − θ^bᵢ), in log-power-sum form: the coefficients
 // change sign.
 var famIceVII = Params{"t_ref": {355}, "p_ref": {2216e6},
@@ -20,7 +20,7 @@ func TestLogPowerSumIceVII(t *testing.T) {
 	for _, tc := range []struct {
 		T, p, tol float64
 	}{
-		{550, 6308.71e6, 5e-6}, // IAPWS R14-08(2011), Table 3 check value (from memory)
+		{550, 6308.71e6, 5e-6}, // IAPWS R14-08(2011), melting-pressure check value (from memory)
 		{355, 2216e6, 2e-6},    // IAPWS R14-08(2011): VI–VII–liquid triple point, the reference point
 	} {
 		p, err := c.Pressure(tc.T)

@@ -36,7 +36,7 @@ import (
 //	R. Span, W. Wagner, "A New Equation of State for Carbon Dioxide
 //	Covering the Fluid Region from the Triple-Point Temperature to 1100 K at
 //	Pressures up to 800 MPa", J. Phys. Chem. Ref. Data 25 (1996) 1509–1596,
-//	eq. 3.10.
+//	section 3 (melting-pressure equation).
 type ShiftedPowerSumFamily struct{}
 
 // Name implements Family.

@@ -7,10 +7,10 @@ import (
 	"gonum.org/v1/gonum/floats/scalar"
 )
 
-// famCO2Melting is the Span & Wagner (1996) melting equation, eq. 3.10:
+// famCO2Melting is the Span & Wagner (1996) melting equation:
 // p/pt = 1 + 1955.5390(T/Tt − 1) + 2055.4593(T/Tt − 1)².
 var famCO2Melting = Params{"t_ref": {216.592}, "p_ref": {0.51795e6},
-	"a": {1955.5390, 2055.4593}, "b": {1, 2}} // Span & Wagner (1996), eq. 3.10 (from memory)
+	"a": {1955.5390, 2055.4593}, "b": {1, 2}} // Span & Wagner (1996), melting-pressure equation (from memory)
 
 // TestShiftedPowerSumCO2 checks the CO2 melting equation against its
 // closed form evaluated independently, and its inverse.
@@ -19,7 +19,7 @@ func TestShiftedPowerSumCO2(t *testing.T) {
 	c := famNew(t, "shifted-power-sum", famCO2Melting, 216.592, 327)
 	for _, T := range []float64{216.592, 220, 250, 300, 327} {
 		x := T/216.592 - 1
-		want := 0.51795e6 * (1 + 1955.5390*x + 2055.4593*x*x) // Span & Wagner (1996), eq. 3.10
+		want := 0.51795e6 * (1 + 1955.5390*x + 2055.4593*x*x) // Span & Wagner (1996), melting-pressure equation
 		p, d, err := c.PressureSlope(T)
 		if err != nil {
 			t.Fatal(err)

@@ -17,7 +17,7 @@ func TestSimonGlatzelIceIII(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !scalar.EqualWithinAbsOrRel(p, 268.685e6, 0, 5e-6) { // IAPWS R14-08(2011), Table 3 check value (from memory)
+	if !scalar.EqualWithinAbsOrRel(p, 268.685e6, 0, 5e-6) { // IAPWS R14-08(2011), melting-pressure check value (from memory)
 		t.Errorf("P(254 K) = %.7g Pa, IAPWS 268.685 MPa", p)
 	}
 	T, err := c.Temperature(268.685e6)

@@ -44,7 +44,7 @@ import (
 //	R. Span, W. Wagner, "A New Equation of State for Carbon Dioxide
 //	Covering the Fluid Region from the Triple-Point Temperature to 1100 K at
 //	Pressures up to 800 MPa", J. Phys. Chem. Ref. Data 25 (1996) 1509–1596,
-//	eqs. 3.11 and 3.12.
+//	section 3 (vapour-pressure and sublimation-pressure equations).
 type WagnerFamily struct{}
 
 // Name implements Family.

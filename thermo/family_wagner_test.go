@@ -11,17 +11,17 @@ var (
 	// famWaterWagnerPruss is the vapour-pressure equation of IAPWS
 	// SR1-86(1992) (Wagner & Pruss 1993), Tc = 647.096 K, pc = 22.064 MPa.
 	famWaterWagnerPruss = Params{"t_ref": {647.096}, "p_ref": {22.064e6},
-		"a": {-7.85951783, 1.84408259, -11.7866497, 22.6807411, -15.9618719, 1.80122502}, // IAPWS SR1-86(1992), eq. 1 (from memory)
+		"a": {-7.85951783, 1.84408259, -11.7866497, 22.6807411, -15.9618719, 1.80122502}, // IAPWS SR1-86(1992), vapour-pressure equation (from memory)
 		"e": {1, 1.5, 3, 3.5, 4, 7.5}}
 	// famCO2Saturation is the Span & Wagner (1996) vapour-pressure
-	// equation, eq. 3.13.
+	// equation.
 	famCO2Saturation = Params{"t_ref": {304.1282}, "p_ref": {7.3773e6},
-		"a": {-7.0602087, 1.9391218, -1.6463597, -3.2995634}, // Span & Wagner (1996), eq. 3.13 (from memory)
+		"a": {-7.0602087, 1.9391218, -1.6463597, -3.2995634}, // Span & Wagner (1996), vapour-pressure equation (from memory)
 		"e": {1, 1.5, 2, 4}}
 	// famCO2Sublimation is the Span & Wagner (1996) sublimation equation,
-	// eq. 3.12, referred to the triple point.
+	// referred to the triple point.
 	famCO2Sublimation = Params{"t_ref": {216.592}, "p_ref": {0.51795e6},
-		"a": {-14.740846, 2.4327015, -5.3061778}, // Span & Wagner (1996), eq. 3.12 (from memory)
+		"a": {-14.740846, 2.4327015, -5.3061778}, // Span & Wagner (1996), sublimation-pressure equation (from memory)
 		"e": {1, 1.9, 2.9}}
 )
 
