@@ -275,7 +275,8 @@ func Fit(family string, data []FitPoint, opt FitOptions) (*FitResult, error) {
 	}
 	corr, err := fam.New(res.Params, tmin, tmax)
 	if err != nil {
-		return nil, fmt.Errorf("thermo: the fitted %s parameters are not a valid curve over [%g, %g] K: %w", family, tmin, tmax, err)
+		return nil, fmt.Errorf("thermo: the fitted %s parameters are not a valid curve over [%g, %g] K (the form does not describe these data there: fix a parameter at a known value, e.g. p0 at a triple point, choose another family, or add data): %w",
+			family, tmin, tmax, err)
 	}
 	res.Residuals = make([]float64, n)
 	ss := 0.0
@@ -375,10 +376,10 @@ func (res *FitResult) statistics(sol *LMResult, m *fitModel) {
 	for a := range np {
 		res.Correlation[a] = make([]float64, np)
 		for b := range np {
-			if se[a] > 0 && se[b] > 0 {
-				res.Correlation[a][b] = cov[a][b] / (se[a] * se[b])
-			} else if a == b {
+			if a == b {
 				res.Correlation[a][b] = 1
+			} else if se[a] > 0 && se[b] > 0 {
+				res.Correlation[a][b] = max(-1, min(1, cov[a][b]/(se[a]*se[b])))
 			}
 		}
 	}

@@ -432,11 +432,11 @@ var (
 				return true, ""
 			}
 			if fitted {
-				return false, "is below t_ref, where (T/T* − 1)^b is undefined for a fitted (non-integer) exponent"
+				return false, "lies below t_ref, where (T/T* − 1)^b is undefined for a fitted (non-integer) exponent"
 			}
 			for _, b := range exps {
 				if b != math.Trunc(b) {
-					return false, "is below t_ref, where (T/T* − 1)^b is undefined for non-integer b"
+					return false, "lies below t_ref, where (T/T* − 1)^b is undefined for non-integer b"
 				}
 			}
 			return true, ""
@@ -454,7 +454,7 @@ var (
 			if theta <= 1 {
 				return true, ""
 			}
-			return false, "is above t_ref, where τ = 1 − T/T_ref < 0 and the Wagner form is undefined"
+			return false, "lies above t_ref, where τ = 1 − T/T_ref < 0 and the Wagner form is undefined"
 		}}
 )
 
@@ -483,7 +483,7 @@ func (r reducedForm) setup(fx Params, opt FitOptions, d *fitData) (*fitModel, er
 	if r.domain != nil {
 		for i, t := range d.t {
 			if ok, why := r.domain(t/tr, exps, fitted); !ok {
-				return nil, &FitDataError{Row: i + 1, Reason: fmt.Sprintf("temperature %g K %s = %g K", t, why, tr)}
+				return nil, &FitDataError{Row: i + 1, Reason: fmt.Sprintf("temperature %g K %s (t_ref = %g K)", t, why, tr)}
 			}
 		}
 	}

@@ -17,7 +17,7 @@ import (
 // the linear parameters solved at each grid point, and the best point
 // starts Levenberg–Marquardt.
 
-// weightedLS solves min Σᵢ wᵢ·(yᵢ − Σⱼ cⱼ·colsⱼ[i])² by QR with the columns
+// weightedLS solves min Σᵢ wᵢ·(yᵢ − Σⱼ cⱼ·colsⱼ[i])² by SVD with the columns
 // scaled to unit norm, and returns c and the minimum.
 func weightedLS(cols [][]float64, y, w []float64) ([]float64, float64, error) {
 	n, k := len(y), len(cols)
@@ -44,11 +44,22 @@ func weightedLS(cols [][]float64, y, w []float64) ([]float64, float64, error) {
 	for i := range y {
 		b.SetVec(i, math.Sqrt(w[i])*y[i])
 	}
-	var qr mat.QR
-	qr.Factorize(a)
-	var c mat.VecDense
-	if err := qr.SolveVecTo(&c, false, b); err != nil {
-		return nil, 0, fmt.Errorf("%w: linearised fit is singular: %v", ErrBadParam, err)
+	// SVD with a relative rank cut: a singular basis (two equal exponents,
+	// say) still gives the minimum-norm start, and the statistics at the
+	// solution report the dependence.
+	var svd mat.SVD
+	if !svd.Factorize(a, mat.SVDThin) {
+		return nil, 0, fmt.Errorf("%w: linearised fit: SVD failed", ErrBadParam)
+	}
+	rank := svd.Rank(1e-13)
+	if rank == 0 {
+		return nil, 0, fmt.Errorf("%w: linearised fit: zero basis", ErrBadParam)
+	}
+	var cm mat.Dense
+	svd.SolveTo(&cm, b, rank)
+	c := mat.NewVecDense(k, nil)
+	for j := 0; j < k; j++ {
+		c.SetVec(j, cm.At(j, 0))
 	}
 	out := make([]float64, k)
 	for j := range out {
