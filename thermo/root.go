@@ -106,7 +106,7 @@ func (r RootFinder) Solve(f func(x float64) (y, dydx float64), a, b float64) (fl
 	}
 	dxOld := math.Abs(b - a)
 	dx := dxOld
-	ref := span(a, b) // doubles in the bracket when last checked
+	ref, dxRef := span(a, b), dx // bracket size and step when last checked
 	for i := range maxIter {
 		fx, dfx := f(x)
 		if fx == 0 {
@@ -125,10 +125,13 @@ func (r RootFinder) Solve(f func(x float64) (y, dydx float64), a, b float64) (fl
 		if h-l <= tol*math.Abs(x) || n <= 1 {
 			return x, nil
 		}
+		// Every third step: when the bracket has not halved and the
+		// steps are not shrinking fast (Newton converging linearly, as
+		// at a multiple root), bisect.
 		force := false
 		if i%3 == 2 {
-			force = n > ref/2
-			ref = n
+			force = n > ref/2 && dx > dxRef/8
+			ref, dxRef = n, dx
 		}
 		// Newton step, accepted only inside the open bracket and when
 		// it shrinks fast enough.
