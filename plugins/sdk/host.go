@@ -41,6 +41,10 @@ const exitPollInterval = 50 * time.Millisecond
 // is not plainly a lost connection, to see whether the process died.
 const deathGrace = 500 * time.Millisecond
 
+// maxSocketDirLen leaves room in a 104-byte socket path for the name a
+// backend gives its socket.
+const maxSocketDirLen = 80
+
 // HostConfig configures a Host. The zero value is usable: standard
 // backends re-execute the running binary, sockets live in a fresh temporary
 // directory, restarts back off from 200 ms to 30 s.
@@ -365,8 +369,17 @@ func (h *Host) ensureSocketDirLocked() error {
 	if h.socketDir != "" {
 		return nil
 	}
-	if h.cfg.SocketDir != "" {
-		h.socketDir = h.cfg.SocketDir
+	if dir := h.cfg.SocketDir; dir != "" {
+		// A backend's socket is DIR/pluginNNNNNNNNNN; sun_path holds 104
+		// bytes on some systems, 108 on Linux.
+		if len(dir) > maxSocketDirLen {
+			return fmt.Errorf("sdk: socket directory %s is %d bytes long; unix socket paths must stay under 104 bytes, so use one of at most %d",
+				dir, len(dir), maxSocketDirLen)
+		}
+		if err := os.MkdirAll(dir, 0o700); err != nil {
+			return fmt.Errorf("sdk: creating the backend socket directory: %w", err)
+		}
+		h.socketDir = dir
 		return nil
 	}
 	base := os.TempDir()

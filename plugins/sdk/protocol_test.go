@@ -21,8 +21,10 @@ import (
 func inProcess(t *testing.T, b Backend) pluginpb.BackendServiceClient {
 	t.Helper()
 	ps := map[string]plugin.Plugin{pluginName: &grpcPlugin{server: newBackendServer(b, hclog.NewNullLogger())}}
-	client, server := plugin.TestPluginGRPCConn(t, false, ps)
-	t.Cleanup(func() { _ = client.Close(); server.Stop() })
+	client, _ := plugin.TestPluginGRPCConn(t, false, ps)
+	// Close asks the server to stop through go-plugin's controller; a
+	// second Stop of our own would race with it.
+	t.Cleanup(func() { _ = client.Close() })
 	raw, err := client.Dispense(pluginName)
 	if err != nil {
 		t.Fatal(err)

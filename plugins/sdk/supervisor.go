@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"os/exec"
 	"path/filepath"
+	"sync"
 	"sync/atomic"
 	"time"
 
@@ -25,10 +26,13 @@ type supervisor struct {
 	command func() (*exec.Cmd, error)
 	sha     string // pinned lower-case hex SHA-256; "" for a standard backend pinned at first launch
 
-	cur  atomic.Pointer[instance]
-	info atomic.Pointer[BackendInfo]
-	stop chan struct{} // closed by shutdown
-	done chan struct{} // closed when run returns
+	cur      atomic.Pointer[instance]
+	info     atomic.Pointer[BackendInfo]
+	stopOnce sync.Once
+	stop     chan struct{} // closed by shutdown
+	done     chan struct{} // closed when run returns
+	ctx      context.Context
+	cancel   context.CancelFunc // cancels ctx, so a restart in progress gives up on shutdown
 }
 
 // instance is one running backend process.
@@ -53,6 +57,7 @@ func (in *instance) isDead() bool {
 
 func (h *Host) newSupervisor(spec BackendSpec) (*supervisor, error) {
 	s := &supervisor{h: h, spec: spec, stop: make(chan struct{}), done: make(chan struct{})}
+	s.ctx, s.cancel = context.WithCancel(context.Background())
 	if spec.Path != "" {
 		if spec.SHA256 == "" {
 			return nil, fmt.Errorf("sdk: backend %q (%s) has no sha256; a third-party backend must be pinned by its SHA-256", spec.Name, spec.Path)
@@ -190,7 +195,7 @@ func (s *supervisor) run(inst *instance) {
 			case <-time.After(backoff):
 			}
 			backoff = min(2*backoff, h.cfg.MaxBackoff)
-			next, err := s.launch(context.Background())
+			next, err := s.launch(s.ctx)
 			if err != nil {
 				h.log.Error("backend restart failed", "backend", name, "error", err, "next_backoff", backoff)
 				continue
@@ -231,10 +236,9 @@ func (s *supervisor) waitExit(inst *instance) bool {
 
 // shutdown stops supervision and kills the running process.
 func (s *supervisor) shutdown() {
-	select {
-	case <-s.stop:
-	default:
+	s.stopOnce.Do(func() {
 		close(s.stop)
-	}
+		s.cancel()
+	})
 	<-s.done
 }
