@@ -16,7 +16,7 @@ import "math"
 //	b  B, K
 //	c  C, dimensionless
 //	d  D, K^−E
-//	e  E, dimensionless (commonly 1, 2 or 6)
+//	e  E, dimensionless (commonly 1, 2 or 6; Riedel's form has E = 6)
 //
 // T(P) has no closed form and is solved numerically to about 1e-14
 // relative on each monotonic piece; for a curve that is not monotonic over
@@ -28,11 +28,11 @@ import "math"
 //
 // References:
 //
+//	L. Riedel, "Eine neue universelle Dampfdruckformel", Chemie Ingenieur
+//	Technik 26 (1954) 83–89 (the form with E = 6).
 //	B. E. Poling, J. M. Prausnitz, J. P. O'Connell, The Properties of Gases
 //	and Liquids, 5th ed., McGraw-Hill, 2001, §7-3 (extensions of the
 //	Antoine equation).
-//	D. R. Stull, E. F. Westrum, G. C. Sinke, The Chemical Thermodynamics of
-//	Organic Compounds, Wiley, 1969.
 type ExtendedAntoineFamily struct{}
 
 // Name implements Family.
