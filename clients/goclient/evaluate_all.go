@@ -5,6 +5,11 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"time"
+
+	"google.golang.org/grpc/codes"
+	"google.golang.org/grpc/status"
+	"google.golang.org/protobuf/proto"
 
 	phaseboundpb "github.com/phasebound/phasebound/proto/phasebound/v1"
 )
@@ -14,7 +19,9 @@ import (
 // sent through one EvaluateStream, and the answers are put back together in
 // request order, exactly as one Evaluate would have returned them
 // (branch_names merged, error indices counted from the start of the batch).
-// With req.Strict the first bad chunk fails the call.
+// With req.Strict the first bad chunk fails the call. A stream broken by
+// UNAVAILABLE (a replica stopping) is resumed on a new stream from the
+// first point not yet answered, up to maxStreamResumes times.
 func (c *Client) EvaluateAll(ctx context.Context, req *phaseboundpb.EvaluateRequest) (*phaseboundpb.EvaluateResponse, error) {
 	chunk := c.ChunkPoints
 	if chunk <= 0 {
@@ -24,36 +31,67 @@ func (c *Client) EvaluateAll(ctx context.Context, req *phaseboundpb.EvaluateRequ
 	if n <= chunk {
 		return c.rpc.Evaluate(ctx, req)
 	}
+	out := newMerged(req, n)
+	received := 0 // points answered so far, all from the start of the batch
+	for attempt := 0; ; attempt++ {
+		err := c.streamFrom(ctx, req, chunk, out, &received)
+		if err == nil {
+			return out.resp, nil
+		}
+		// A replica that stops mid-stream ends it with UNAVAILABLE after
+		// some chunks were answered, which gRPC's retry policy cannot
+		// replay; resume from the first unanswered point on a new stream
+		// (the balancer picks a live replica).
+		if status.Code(err) != codes.Unavailable || attempt >= maxStreamResumes || ctx.Err() != nil {
+			return nil, err
+		}
+		select {
+		case <-time.After(time.Duration(50<<attempt) * time.Millisecond):
+		case <-ctx.Done():
+			return nil, err
+		}
+	}
+}
+
+// maxStreamResumes bounds how often EvaluateAll reopens a broken stream.
+const maxStreamResumes = 4
+
+// streamFrom streams the points of req from *received on and merges the
+// answers into out, advancing *received as chunks are answered.
+func (c *Client) streamFrom(ctx context.Context, req *phaseboundpb.EvaluateRequest, chunk int, out *merged, received *int) error {
 	ctx, cancel := context.WithCancel(ctx)
 	defer cancel()
 	stream, err := c.rpc.EvaluateStream(ctx)
 	if err != nil {
-		return nil, err
+		return err
 	}
+	base := *received
+	rest := proto.Clone(req).(*phaseboundpb.EvaluateRequest)
+	rest.Values = req.GetValues()[base:]
 	sendErr := make(chan error, 1)
 	go func() {
-		sendErr <- sendChunks(stream, req, chunk)
+		sendErr <- sendChunks(stream, rest, chunk)
 	}()
-
-	out := newMerged(req, n)
-	for received := 0; received < n; {
+	n := len(req.GetValues())
+	for *received < n {
 		msg, err := stream.Recv()
 		if err == io.EOF {
-			return nil, fmt.Errorf("goclient: stream ended after %d of %d points", received, n)
+			return fmt.Errorf("goclient: stream ended after %d of %d points", *received, n)
 		}
 		if err != nil {
-			return nil, err
+			return err
 		}
+		msg.Offset += uint64(base)
 		k, err := out.add(msg)
 		if err != nil {
-			return nil, err
+			return err
 		}
-		received += k
+		*received += k
 	}
 	if err := <-sendErr; err != nil && !errors.Is(err, io.EOF) {
-		return nil, err
+		return err
 	}
-	return out.resp, nil
+	return nil
 }
 
 func sendChunks(stream phaseboundpb.BoundaryService_EvaluateStreamClient, req *phaseboundpb.EvaluateRequest, chunk int) error {
