@@ -137,11 +137,11 @@ func fetchDiagram(ctx context.Context, src Source, id string, opt Options) (*dia
 	}
 	d.pmax = opt.Pmax
 	if d.pmax <= 0 {
-		d.pmax = math.Pow(10, math.Ceil(math.Log10(pmaxData*1.2)))
+		d.pmax = pmaxData * 2.5
 	}
 	d.pmin = opt.Pmin
 	if d.pmin <= 0 {
-		d.pmin = math.Max(math.Pow(10, math.Floor(math.Log10(pminData))), d.pmax*1e-13)
+		d.pmin = math.Max(pminData/2.5, d.pmax*1e-13)
 	}
 	if d.pmin >= d.pmax {
 		return nil, fmt.Errorf("plot: pressure axis [%g, %g] Pa is empty (want pmin < pmax)", d.pmin, d.pmax)
@@ -154,11 +154,12 @@ func fetchDiagram(ctx context.Context, src Source, id string, opt Options) (*dia
 			}
 		}
 	}
-	if cp := sub.GetCriticalPoint(); cp != nil && cp.GetTemperatureK() > 0 {
-		thi = math.Max(thi, cp.GetTemperatureK())
-	}
 	if math.IsInf(tlo, 1) {
 		tlo, thi = 1, 1000
+	}
+	if cp := sub.GetCriticalPoint(); cp != nil && cp.GetTemperatureK() > 0 {
+		// Leave the supercritical region room for its name.
+		thi = math.Max(thi, cp.GetTemperatureK()+0.12*(cp.GetTemperatureK()-tlo))
 	}
 	pad := 0.04 * (thi - tlo)
 	d.tmin, d.tmax = opt.Tmin, opt.Tmax
@@ -252,7 +253,7 @@ func PhaseDiagram(ctx context.Context, src Source, id string, opt Options) (*gp.
 			if err != nil {
 				return nil, fmt.Errorf("plot: data: %w", err)
 			}
-			s.GlyphStyle = draw.GlyphStyle{Color: dataColor, Radius: vg.Points(2.6), Shape: draw.RingGlyph{}}
+			s.GlyphStyle = dataGlyph
 			p.Add(s)
 			name := opt.DataLabel
 			if name == "" {
@@ -276,7 +277,7 @@ func PhaseDiagram(ctx context.Context, src Source, id string, opt Options) (*gp.
 			p.Add(l)
 		}
 	}
-	ann := &annotations{d: d}
+	ann := &annotations{d: d, data: opt.Data}
 	tp := markerGlyph(tripleGlyph)
 	cp := markerGlyph(criticalGlyph)
 	if len(d.sub.GetTriplePoints()) > 0 {
@@ -291,6 +292,9 @@ func PhaseDiagram(ctx context.Context, src Source, id string, opt Options) (*gp.
 	p.Legend.YOffs = vg.Points(6)
 	ann.legend = &p.Legend
 	p.Add(ann)
+	// Adding plotters widens the axes to their data; the diagram's limits win.
+	p.X.Min, p.X.Max = d.tmin, d.tmax
+	p.Y.Min, p.Y.Max = math.Log10(d.pmin), math.Log10(d.pmax)
 	return p, nil
 }
 
@@ -309,6 +313,7 @@ func invented(s *phaseboundpb.Substance) bool {
 }
 
 var (
+	dataGlyph     = draw.GlyphStyle{Color: dataColor, Radius: vg.Points(2.6), Shape: draw.RingGlyph{}}
 	tripleGlyph   = draw.GlyphStyle{Color: inkColor, Radius: vg.Points(3.5), Shape: draw.CircleGlyph{}}
 	criticalGlyph = draw.GlyphStyle{Color: criticalColor, Radius: vg.Points(4.5), Shape: draw.CircleGlyph{}}
 )
@@ -396,6 +401,7 @@ func locateRegions(ctx context.Context, src Source, id string, d *diagram) *phas
 type annotations struct {
 	d      *diagram
 	legend *gp.Legend
+	data   []Point
 }
 
 const (
@@ -544,6 +550,11 @@ func (a *annotations) Plot(c draw.Canvas, p *gp.Plot) {
 	for _, m := range markers {
 		r := m.sty.Rectangle().Add(m.at)
 		pl.markRect(r, cellBlock)
+	}
+	for _, q := range a.data {
+		if in(q.T, q.P) {
+			pl.markRect(dataGlyph.Rectangle().Add(vg.Point{X: tx(q.T), Y: ty(math.Log10(q.P))}), cellBlock)
+		}
 	}
 	var draws []func()
 	place := func(txt string, sty text.Style, r vg.Rectangle) {

@@ -152,7 +152,7 @@ func TestResiduals(t *testing.T) {
 	}
 	for i, r := range res {
 		p, _ := fkCC(data[i].T, fkHvap)
-		if want := (data[i].P - p) / p; r.Rel != want {
+		if want := (data[i].P - p) / data[i].P; r.Rel != want {
 			t.Errorf("point %d: rel %g, want %g", i, r.Rel, want)
 		}
 	}

@@ -14,7 +14,9 @@ import (
 )
 
 // Residual is one data point's relative deviation from a curve,
-// (P_measured − P_curve)/P_curve, at temperature T (K).
+// (P_measured − P_curve)/P_measured, at temperature T (K): positive where
+// the data lie above the curve, and of the same size as the deviations a
+// fit reports (P_fit/P − 1, which is −Rel).
 type Residual struct {
 	T, Rel float64
 }
@@ -45,7 +47,7 @@ func Residuals(res []Residual, title string) (*gp.Plot, error) {
 		title = "Residuals"
 	}
 	title = fmt.Sprintf("%s\nn = %d, RMS %.3g %%, max |dev| %.3g %%", title, len(xy), 100*rms, 100*maxAbs)
-	p := newPlot(title, "temperature T (K)", "relative deviation (P_data − P_curve)/P_curve (%)")
+	p := newPlot(title, "temperature T (K)", "relative deviation (P_data − P_curve)/P_data (%)")
 	span := thi - tlo
 	if span == 0 {
 		span = math.Max(1, 0.02*thi)
@@ -87,7 +89,7 @@ func Residuals(res []Residual, title string) (*gp.Plot, error) {
 	}
 	s.GlyphStyle = draw.GlyphStyle{Color: dataColor, Radius: vg.Points(2.8), Shape: draw.RingGlyph{}}
 	p.Add(zero, up, down, s)
-	p.Legend.Add("data point", s)
+	p.Legend.Add("measured point", s)
 	p.Legend.Add("± RMS", up)
 	p.Legend.Top = true
 	p.Legend.XOffs = -vg.Points(6)
@@ -127,7 +129,7 @@ func ResidualsAgainst(ctx context.Context, src Source, id string, kind phaseboun
 			}
 			return nil, fmt.Errorf("plot: data point %d (T = %g K): %s", i+1, q.T, msg)
 		}
-		out[i] = Residual{T: q.T, Rel: (q.P - r.PressurePa[i]) / r.PressurePa[i]}
+		out[i] = Residual{T: q.T, Rel: (q.P - r.PressurePa[i]) / q.P}
 	}
 	return out, nil
 }

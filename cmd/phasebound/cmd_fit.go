@@ -358,16 +358,18 @@ func (a *app) runFit(f *fitFlags) error {
 		rep.Correlation = append(rep.Correlation, r)
 	}
 	if f.out != "" {
-		if err := a.writeFitCatalog(f, kind, res, rep.DataFile, rep.DataSHA256); err != nil {
+		warn, err := a.writeFitCatalog(f, kind, res, rep.DataFile, rep.DataSHA256)
+		if err != nil {
 			return fmt.Errorf("fit: --out: %w", err)
 		}
+		rep.Warnings = append(rep.Warnings, warn...)
 		rep.Out = f.out
 	}
 	if f.plotOut != "" {
 		rs := make([]plot.Residual, len(res.Residuals))
 		for i, r := range res.Residuals {
-			// Fit residuals are P_fit/P − 1; the plot shows (P − P_fit)/P_fit.
-			rs[i] = plot.Residual{T: pts[i].t, Rel: -r / (1 + r)}
+			// Fit residuals are P_fit/P − 1; the plot shows (P − P_fit)/P.
+			rs[i] = plot.Residual{T: pts[i].t, Rel: -r}
 		}
 		title := fmt.Sprintf("%s %s: %s fit to %s", f.substance, curveLabel(kind, f.branch), res.Family, rep.DataFile)
 		p, err := plot.Residuals(rs, title)
@@ -462,10 +464,10 @@ func copySubstance(s *catalog.Substance) *catalog.Substance {
 
 // writeFitCatalog writes the fitted substance as a catalog that merges
 // onto the embedded default.
-func (a *app) writeFitCatalog(f *fitFlags, kind thermo.CurveKind, res *thermo.FitResult, dataFile, dataSHA string) error {
+func (a *app) writeFitCatalog(f *fitFlags, kind thermo.CurveKind, res *thermo.FitResult, dataFile, dataSHA string) (warnings []string, err error) {
 	base, err := a.loadCatalog()
 	if err != nil {
-		return err
+		return nil, err
 	}
 	date := time.Now().UTC().Format("2006-01-02")
 	prov := catalog.Provenance{
@@ -510,18 +512,24 @@ func (a *app) writeFitCatalog(f *fitFlags, kind thermo.CurveKind, res *thermo.Fi
 				// phase volumes and the reference state.
 				br.Name, br.SolidForm = old.Name, old.SolidForm
 				br.VolumeLow, br.VolumeHigh, br.Reference = old.VolumeLow, old.VolumeHigh, old.Reference
+				if r := br.Reference; r != nil && (r.Temperature < br.Tmin || r.Temperature > br.Tmax) {
+					warnings = append(warnings, fmt.Sprintf(
+						"the catalog's reference state of this curve at %g K lies outside the fitted range [%g, %g] K and was left out of --out; widen the range with --tmin/--tmax to keep it",
+						r.Temperature, br.Tmin, br.Tmax))
+					br.Reference = nil
+				}
 				cv.Branches[idx] = br
 			case f.branch == "":
 				names := make([]string, len(cv.Branches))
 				for i, b := range cv.Branches {
 					names[i] = b.Name
 				}
-				return fmt.Errorf("substance %q has a %s curve of %d branches (%s): name the one fitted with --branch",
+				return nil, fmt.Errorf("substance %q has a %s curve of %d branches (%s): name the one fitted with --branch",
 					f.substance, kind, len(cv.Branches), strings.Join(names, ", "))
 			default:
 				for _, b := range cv.Branches {
 					if b.Name == "" {
-						return fmt.Errorf("substance %q has a single unnamed %s branch: fit it without --branch, or name the new branch's neighbours first", f.substance, kind)
+						return nil, fmt.Errorf("substance %q has a single unnamed %s branch: fit it without --branch, or name the new branch's neighbours first", f.substance, kind)
 					}
 				}
 				br.SolidForm = f.branch
@@ -530,7 +538,7 @@ func (a *app) writeFitCatalog(f *fitFlags, kind thermo.CurveKind, res *thermo.Fi
 		}
 	} else {
 		if f.molarMass <= 0 {
-			return fmt.Errorf("substance %q is not in the catalog: give --molar-mass (kg/mol) to create it", f.substance)
+			return nil, fmt.Errorf("substance %q is not in the catalog: give --molar-mass (kg/mol) to create it", f.substance)
 		}
 		name := f.name
 		if name == "" {
@@ -563,17 +571,17 @@ func (a *app) writeFitCatalog(f *fitFlags, kind thermo.CurveKind, res *thermo.Fi
 	}
 	var buf bytes.Buffer
 	if err := catalog.Write(&buf, out); err != nil {
-		return err
+		return nil, err
 	}
 	text, err := withIncludeDefault(buf.Bytes())
 	if err != nil {
-		return err
+		return nil, err
 	}
 	// The file must load as written, merged onto the default.
 	if _, err := catalog.Parse(f.out, text); err != nil {
-		return fmt.Errorf("the written catalog does not load: %w", err)
+		return nil, fmt.Errorf("the written catalog does not load: %w", err)
 	}
-	return os.WriteFile(f.out, text, 0o644)
+	return warnings, os.WriteFile(f.out, text, 0o644)
 }
 
 // withIncludeDefault sets include_default = true after the format line,
