@@ -67,8 +67,8 @@ type Server struct {
 
 	snap atomic.Pointer[snapshot]
 
-	mu      sync.Mutex // serialises Reload and guards started
-	started map[string]sdk.BackendSpec
+	mu      sync.Mutex // guards started and closed
+	started map[string]*backendStart
 	closed  bool
 }
 
@@ -98,7 +98,7 @@ func New(ctx context.Context, cat *catalog.Catalog, opts Options) (*Server, erro
 		log:     opts.Logger,
 		host:    sdk.NewHost(opts.HostConfig),
 		health:  health.NewServer(),
-		started: map[string]sdk.BackendSpec{},
+		started: map[string]*backendStart{},
 	}
 	s.health.SetServingStatus(ServiceName, healthpb.HealthCheckResponse_NOT_SERVING)
 	snap, err := s.compile(ctx, cat)
@@ -158,26 +158,48 @@ func (s *Server) Close() {
 	s.host.Close()
 }
 
-// startBackend starts spec unless it runs already; a backend name may not
-// change its executable while the server runs.
-func (s *Server) startBackend(ctx context.Context, spec sdk.BackendSpec) error {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	if s.closed {
-		return errors.New("server: closed")
-	}
-	if old, ok := s.started[spec.Name]; ok {
-		if old != spec {
-			return fmt.Errorf("server: backend %q is running from %s; restart the server to change it to %s", spec.Name, old.Path, spec.Path)
-		}
-		return nil
-	}
-	t0 := time.Now()
-	if err := s.host.Start(ctx, spec); err != nil {
-		return fmt.Errorf("server: start backend %q: %w", spec.Name, err)
-	}
-	s.started[spec.Name] = spec
-	s.log.Info("backend started", "backend", spec.Name, "path", spec.Path, "elapsed", time.Since(t0).Round(time.Millisecond))
-	return nil
+// backendStart records one backend start; done closes when it finished.
+type backendStart struct {
+	spec sdk.BackendSpec
+	done chan struct{}
+	err  error
 }
 
+// startBackend starts spec unless it runs already (or is starting: then it
+// waits for that start). A backend name may not change its executable
+// while the server runs. Different backends start concurrently.
+func (s *Server) startBackend(ctx context.Context, spec sdk.BackendSpec) error {
+	s.mu.Lock()
+	if s.closed {
+		s.mu.Unlock()
+		return errors.New("server: closed")
+	}
+	if st, ok := s.started[spec.Name]; ok {
+		s.mu.Unlock()
+		if st.spec != spec {
+			return fmt.Errorf("server: backend %q is running from %s; restart the server to change it to %s", spec.Name, st.spec.Path, spec.Path)
+		}
+		select {
+		case <-st.done:
+		case <-ctx.Done():
+			return ctx.Err()
+		}
+		return st.err
+	}
+	st := &backendStart{spec: spec, done: make(chan struct{})}
+	s.started[spec.Name] = st
+	s.mu.Unlock()
+
+	t0 := time.Now()
+	st.err = s.host.Start(ctx, spec)
+	if st.err != nil {
+		st.err = fmt.Errorf("server: start backend %q: %w", spec.Name, st.err)
+		s.mu.Lock()
+		delete(s.started, spec.Name) // a later reload may try again
+		s.mu.Unlock()
+	} else {
+		s.log.Info("backend started", "backend", spec.Name, "path", spec.Path, "elapsed", time.Since(t0).Round(time.Millisecond))
+	}
+	close(st.done)
+	return st.err
+}
