@@ -26,6 +26,9 @@ type serveEnv struct {
 	App    *app
 	Log    *slog.Logger
 	Listen string // the --listen address as given
+	// ServerOptions are passed to server.New; Options hooks may change
+	// them (point limit, plugin-restart callback).
+	ServerOptions *server.Options
 	// LoadCatalog reads the catalog serve was started with (again), for
 	// reloads.
 	LoadCatalog func() (*catalog.Catalog, error)
@@ -125,7 +128,8 @@ func (a *app) serve(ctx context.Context, listen string, insecureOK bool, drain t
 	if drain <= 0 {
 		return fmt.Errorf("--drain-timeout %v must be positive", drain)
 	}
-	env := &serveEnv{App: a, Log: log, Listen: listen, LoadCatalog: a.loadCatalog}
+	sopts := server.Options{Logger: log, HostConfig: sdk.HostConfig{Logger: log}}
+	env := &serveEnv{App: a, Log: log, Listen: listen, LoadCatalog: a.loadCatalog, ServerOptions: &sopts}
 
 	opts := []grpc.ServerOption{
 		grpc.MaxRecvMsgSize(goclient.MaxMessageBytes),
@@ -155,7 +159,7 @@ func (a *app) serve(ctx context.Context, listen string, insecureOK bool, drain t
 	if err != nil {
 		return err
 	}
-	srv, err := server.New(ctx, cat, server.Options{Logger: log, HostConfig: sdk.HostConfig{Logger: log}})
+	srv, err := server.New(ctx, cat, sopts)
 	if err != nil {
 		return err
 	}

@@ -1,20 +1,17 @@
 package main
 
-// Security, limits, metrics and SIGHUP reload for 'phasebound serve'.
+// Security, limits, metrics, a health-only listener and SIGHUP reload for
+// 'phasebound serve', plugged into cmd_serve.go through a serveHook:
 //
-// How cmd_serve.go uses this file:
-//
-//	sec := addServeSecurityFlags(cmd)             // when building the command
-//	...
-//	gopts, err := sec.grpcOptions(ctx, a, listen, log, &opts) // before server.New and grpc.NewServer
-//	srv, err := server.New(ctx, cat, opts)
-//	g := grpc.NewServer(gopts...)
-//	srv.Register(g)
-//	sec.afterStart(ctx, srv, a.loadCatalog, log)  // metrics labels, SIGHUP reloads
-//
-// --token-file, --tls-cert and --tls-key are the global flags (type app);
-// this file adds --tls-client-ca, --insecure, --metrics-listen, --max-points
-// --max-concurrency and --health-listen to serve.
+//   - Flags adds --tls-client-ca, --metrics-listen, --max-points,
+//     --max-concurrency and --health-listen (--token-file, --tls-cert and
+//     --tls-key are the global flags of type app; --insecure is serve's own);
+//   - Options builds the credentials and interceptors (metrics, then
+//     authentication, then limits), sets the point limit and the
+//     plugin-restart counter in the server options, and starts the metrics
+//     listener;
+//   - Started names the catalog's substances in the metrics, serves the
+//     health-only listener and reloads on SIGHUP.
 
 import (
 	"context"
@@ -26,7 +23,7 @@ import (
 	"os/signal"
 	"syscall"
 
-	"github.com/spf13/cobra"
+	"github.com/spf13/pflag"
 	"google.golang.org/grpc"
 
 	"github.com/phasebound/phasebound/server"
@@ -38,7 +35,6 @@ import (
 // flags, and the credentials built from them.
 type serveSecurity struct {
 	clientCA       string // --tls-client-ca
-	insecure       bool   // --insecure
 	metricsListen  string // --metrics-listen; "" is off
 	maxPoints      int    // --max-points
 	maxConcurrency int    // --max-concurrency
@@ -48,22 +44,33 @@ type serveSecurity struct {
 	healthLis net.Listener // bound by grpcOptions, served by afterStart
 }
 
-// addServeSecurityFlags adds the security, limit and metrics flags to the
-// serve command.
-func addServeSecurityFlags(cmd *cobra.Command) *serveSecurity {
+func init() {
 	f := &serveSecurity{}
-	fl := cmd.Flags()
+	registerServeHook(serveHook{
+		Flags: f.addFlags,
+		Options: func(ctx context.Context, env *serveEnv) ([]grpc.ServerOption, bool, error) {
+			opts, err := f.grpcOptions(ctx, env.App, env.Listen, env.Log, env.ServerOptions)
+			if err != nil {
+				return nil, false, err
+			}
+			return opts, f.sec.TLS() || f.sec.TokenRequired(), nil
+		},
+		Started: func(ctx context.Context, env *serveEnv) (func(), error) {
+			return f.afterStart(ctx, env.Server, env.LoadCatalog, env.Log), nil
+		},
+	})
+}
+
+// addFlags adds the security, limit and metrics flags to the serve command.
+func (f *serveSecurity) addFlags(fl *pflag.FlagSet) {
 	fl.StringVar(&f.clientCA, "tls-client-ca", "", "CA bundle (PEM) that signs client certificates: require mutual TLS (needs --tls-cert and --tls-key)")
-	fl.BoolVar(&f.insecure, "insecure", false, "allow listening on a non-loopback address without TLS and without a token (prints a warning)")
 	fl.StringVar(&f.metricsListen, "metrics-listen", "", "serve Prometheus metrics at http://HOST:PORT/metrics (e.g. 127.0.0.1:9464); default: off")
 	fl.IntVar(&f.maxPoints, "max-points", server.DefaultMaxPointsPerRequest, "maximum points in one request; larger requests get ResourceExhausted (use a stream)")
 	fl.IntVar(&f.maxConcurrency, "max-concurrency", 0, "calls served at once, beyond which calls queue briefly and then get ResourceExhausted; 0: 4 per CPU")
 	fl.StringVar(&f.healthListen, "health-listen", "", "also serve only the gRPC health service, plain-text and without token, on HOST:PORT (for probes that cannot do TLS, such as Kubernetes grpc probes); default: off")
-	return f
 }
 
-// grpcOptions checks the flags against the listen address, builds the gRPC
-// server options (metrics, then authentication, then limits, so refused
+// grpcOptions builds the gRPC server options (metrics, then authentication, then limits, so refused
 // calls are counted and strangers never reach the limits), sets the point
 // limit and the plugin-restart counter in opts, and starts the metrics
 // listener, which stops when ctx ends.
@@ -80,9 +87,7 @@ func (f *serveSecurity) grpcOptions(ctx context.Context, a *app, listen string, 
 	if err != nil {
 		return nil, err
 	}
-	if err := checkExposure(listen, sec, f.insecure, log); err != nil {
-		return nil, err
-	}
+	warnExposure(listen, sec, log)
 	f.sec = sec
 
 	maxPoints := f.maxPoints
@@ -127,22 +132,13 @@ func (f *serveSecurity) grpcOptions(ctx context.Context, a *app, listen string, 
 	return gopts, nil
 }
 
-// checkExposure refuses to listen beyond loopback with neither TLS nor a
-// token unless insecure is set, and warns about what is still exposed.
-func checkExposure(listen string, sec *server.Security, insecure bool, log *slog.Logger) error {
-	if isLoopbackListen(listen) {
-		return nil
-	}
-	switch {
-	case !sec.TLS() && !sec.TokenRequired() && !insecure:
-		return fmt.Errorf("refusing to listen on %s (not loopback) without TLS or a bearer token: "+
-			"pass --tls-cert and --tls-key, and/or --token-file, or --insecure to serve anyone who can reach the port", listen)
-	case !sec.TLS() && !sec.TokenRequired():
-		log.Warn("INSECURE: serving plain-text, unauthenticated gRPC beyond loopback (--insecure); anyone who can reach the port can call it", "listen", listen)
-	case !sec.TLS():
+// warnExposure warns when the bearer token would travel in clear text
+// beyond loopback. (cmd_serve.go itself refuses a non-loopback address
+// with neither TLS nor a token unless --insecure is given.)
+func warnExposure(listen string, sec *server.Security, log *slog.Logger) {
+	if !isLoopbackListen(listen) && sec.TokenRequired() && !sec.TLS() {
 		log.Warn("the bearer token travels in clear text beyond loopback; add --tls-cert and --tls-key (phasebound clients send the token without TLS only to loopback)", "listen", listen)
 	}
-	return nil
 }
 
 // isLoopbackListen reports whether a listen address binds loopback only:
@@ -161,32 +157,41 @@ func isLoopbackListen(listen string) bool {
 }
 
 // afterStart names the catalog's substances in the metrics, serves the
-// health-only listener when --health-listen is set and, until ctx ends,
-// reloads on SIGHUP: the catalog through srv.ReloadFrom (a bad
-// catalog keeps the served one, and the log says why), then the token file
-// and the TLS certificate (a bad one keeps those in use).
-func (f *serveSecurity) afterStart(ctx context.Context, srv *server.Server, load func() (*catalog.Catalog, error), log *slog.Logger) {
+// health-only listener when --health-listen is set and reloads on SIGHUP:
+// the catalog through srv.ReloadFrom (a bad catalog keeps the served one,
+// and the log says why), then the token file and the TLS certificate (a
+// bad one keeps those in use). The returned function stops both.
+func (f *serveSecurity) afterStart(ctx context.Context, srv *server.Server, load func() (*catalog.Catalog, error), log *slog.Logger) (stop func()) {
 	srv.RecordMetrics(ctx, metrics.Default())
+	var hg *grpc.Server
 	if f.healthLis != nil {
-		hg := grpc.NewServer()
+		hg = grpc.NewServer()
 		srv.RegisterHealth(hg)
 		go hg.Serve(f.healthLis)
-		context.AfterFunc(ctx, hg.Stop)
 		log.Info("health listening (plain-text, health service only)", "addr", f.healthLis.Addr().String())
 	}
 	hup := make(chan os.Signal, 1)
 	signal.Notify(hup, syscall.SIGHUP)
+	done := make(chan struct{})
 	go func() {
-		defer signal.Stop(hup)
 		for {
 			select {
 			case <-ctx.Done():
+				return
+			case <-done:
 				return
 			case <-hup:
 				f.reload(ctx, srv, load, log)
 			}
 		}
 	}()
+	return func() {
+		signal.Stop(hup)
+		close(done)
+		if hg != nil {
+			hg.Stop()
+		}
+	}
 }
 
 // reload is what one SIGHUP does.
