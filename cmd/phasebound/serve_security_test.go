@@ -233,7 +233,7 @@ func TestServeFlagErrors(t *testing.T) {
 	for _, tc := range tests {
 		cmd := &cobra.Command{Use: "serve"}
 		f := &serveSecurity{}
-	f.addFlags(cmd.Flags())
+		f.addFlags(cmd.Flags())
 		if err := cmd.ParseFlags(tc.args); err != nil {
 			t.Fatal(err)
 		}
