@@ -45,3 +45,41 @@ func TestShiftedPowerSumCO2(t *testing.T) {
 		t.Errorf("P(225) = %.15g, want %.15g", p, want)
 	}
 }
+
+// TestShiftedPowerSumTwoTurningPoints checks a curve with a maximum and a
+// minimum inside its range: P/P* = 1 − 0.03x + x³, x = θ − 1, over
+// −0.2 ≤ x ≤ 0.2 (invented). The turning points are at x = ∓0.1, the
+// pressures span [0.998, 1.002]·P*, and P = P* has three roots, x = 0 and
+// ±√0.03, of which T(P) returns the one nearest Tmin.
+func TestShiftedPowerSumTwoTurningPoints(t *testing.T) {
+	t.Parallel()
+	const tr, pr = 200.0, 1e6
+	c := famNew(t, "shifted-power-sum", Params{"t_ref": {tr}, "p_ref": {pr}, "a": {-0.03, 1}, "b": {1, 3}}, 0.8*tr, 1.2*tr)
+	r := c.Range()
+	if !scalar.EqualWithinAbsOrRel(r.Pmin, 0.998*pr, 0, 1e-12) || !scalar.EqualWithinAbsOrRel(r.Pmax, 1.002*pr, 0, 1e-12) {
+		t.Errorf("range P [%.15g, %.15g], want [0.998, 1.002]·P*", r.Pmin, r.Pmax)
+	}
+	for _, tc := range []struct{ p, x float64 }{
+		{pr, -math.Sqrt(0.03)},   // three roots: the lowest
+		{1.002 * pr, -0.1},       // the maximum, reached again at Tmax
+		{0.998 * pr, -0.2},       // at Tmin, reached again at the minimum
+		{1.001 * pr, math.NaN()}, // between the pressures at Tmin and at the maximum: checked by P only
+	} {
+		T, err := c.Temperature(tc.p)
+		if err != nil {
+			t.Fatalf("Temperature(%g): %v", tc.p, err)
+		}
+		x := T/tr - 1
+		got := 1 - 0.03*x + x*x*x
+		if !scalar.EqualWithinAbsOrRel(got*pr, tc.p, 0, 1e-12) {
+			t.Errorf("Temperature(%g) = %g: P there %g", tc.p, T, got*pr)
+		}
+		// The lowest root lies on the first rising piece, x ≤ −0.1.
+		if x > -0.1+1e-6 {
+			t.Errorf("Temperature(%g) = %g (x = %g): not the root nearest Tmin", tc.p, T, x)
+		}
+		if !math.IsNaN(tc.x) && !scalar.EqualWithinAbsOrRel(x, tc.x, 1e-6, 0) {
+			t.Errorf("Temperature(%g): x = %.9g, want %.9g", tc.p, x, tc.x)
+		}
+	}
+}
