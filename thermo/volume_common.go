@@ -3,6 +3,7 @@ package thermo
 import (
 	"fmt"
 	"math"
+	"strings"
 )
 
 // Helpers shared by the coexisting-phase volume families (volume_*.go).
@@ -208,3 +209,22 @@ func badParamf(format string, args ...any) error {
 
 // fmtWrap prefixes err with the family name, keeping it unwrappable.
 func fmtWrap(family string, err error) error { return fmt.Errorf("%s: %w", family, err) }
+
+// volumeKnownParams refuses parameters a family does not use (a misspelt
+// name would otherwise be ignored silently). molar_mass is always accepted:
+// the catalog injects it into every volume correlation.
+func volumeKnownParams(p Params, family string, names ...string) error {
+	for k := range p {
+		if k == "molar_mass" {
+			continue
+		}
+		known := false
+		for _, n := range names {
+			known = known || k == n
+		}
+		if !known {
+			return badParamf("%s: unknown parameter %q (parameters: %s, molar_mass)", family, k, strings.Join(names, ", "))
+		}
+	}
+	return nil
+}

@@ -60,6 +60,9 @@ func (DensityLogSeriesFamily) New(p Params, tmin, tmax float64) (VolumeCorrelati
 // DensityLogSeries.
 func NewDensityLogSeries(p Params, tmin, tmax float64) (*DensityLogSeries, error) {
 	const name = "density-log-series"
+	if err := volumeKnownParams(p, name, "t_c", "rho_c", "c", "t"); err != nil {
+		return nil, err
+	}
 	tc, err := positiveScalar(p, name, "t_c", "K")
 	if err != nil {
 		return nil, err

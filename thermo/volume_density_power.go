@@ -60,6 +60,9 @@ func (f DensityPowerSeriesFamily) New(p Params, tmin, tmax float64) (VolumeCorre
 // DensityPowerSeries.
 func NewDensityPowerSeries(p Params, tmin, tmax float64) (*DensityPowerSeries, error) {
 	const name = "density-power-series"
+	if err := volumeKnownParams(p, name, "t_c", "rho_c", "b", "t"); err != nil {
+		return nil, err
+	}
 	tc, err := positiveScalar(p, name, "t_c", "K")
 	if err != nil {
 		return nil, err

@@ -48,7 +48,7 @@ func NewIdealGas(p Params, tmin, tmax float64) (*IdealGas, error) {
 	const name = "ideal-gas"
 	for k := range p {
 		if k != "molar_mass" {
-			return nil, badParamf("%s: takes no parameters, got %q", name, k)
+			return nil, badParamf("%s: takes no parameters (molar_mass aside), got %q", name, k)
 		}
 	}
 	if err := volumeCheckRange(name, tmin, tmax, 0); err != nil {

@@ -53,6 +53,9 @@ func (LinearDensityFamily) New(p Params, tmin, tmax float64) (VolumeCorrelation,
 // LinearDensity.
 func NewLinearDensity(p Params, tmin, tmax float64) (*LinearDensity, error) {
 	const name = "linear-density"
+	if err := volumeKnownParams(p, name, "rho0", "t0", "drho_dt"); err != nil {
+		return nil, err
+	}
 	rho0, err := positiveScalar(p, name, "rho0", "kg/m³")
 	if err != nil {
 		return nil, err

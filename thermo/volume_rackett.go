@@ -51,6 +51,9 @@ func (RackettFamily) New(p Params, tmin, tmax float64) (VolumeCorrelation, error
 // NewRackett builds the correlation from its parameters; see Rackett.
 func NewRackett(p Params, tmin, tmax float64) (*Rackett, error) {
 	const name = "rackett"
+	if err := volumeKnownParams(p, name, "t_c", "p_c", "z_ra"); err != nil {
+		return nil, err
+	}
 	tc, err := positiveScalar(p, name, "t_c", "K")
 	if err != nil {
 		return nil, err

@@ -54,6 +54,9 @@ func (SecondVirialFamily) New(p Params, tmin, tmax float64) (VolumeCorrelation, 
 // SecondVirial.
 func NewSecondVirial(p Params, tmin, tmax float64) (*SecondVirial, error) {
 	const name = "second-virial"
+	if err := volumeKnownParams(p, name, "b0", "b1", "b2"); err != nil {
+		return nil, err
+	}
 	var b [3]float64
 	for i, k := range []string{"b0", "b1", "b2"} {
 		v, err := p.Scalar(k)
