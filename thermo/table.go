@@ -15,7 +15,7 @@ const DefaultTableTolerance = 1e-11
 const (
 	// DefaultTableNodes is the number of interpolation nodes per segment
 	// (polynomial degree + 1) when TableOptions.Nodes is zero.
-	DefaultTableNodes = 16
+	DefaultTableNodes = 10
 	// DefaultTableMaxSegments caps the segments of one table when
 	// TableOptions.MaxSegments is zero.
 	DefaultTableMaxSegments = 2048
@@ -173,11 +173,18 @@ type Table struct {
 	offsets    []uint32
 	coeffs     []float64
 	invWidth   []float64 // 1/(breaks[i+1]−breaks[i])
+	// cd interleaves each segment's coefficients with those of its
+	// derivative in u: cd[2k] = c_k, cd[2k+1] = d_k (see chebInterleave);
+	// segment i is cd[2·offsets[i] : 2·offsets[i+1]].
+	cd []float64
 	xmin, xmax float64
 	maxRel     float64
 
 	// Uniform index over [breaks[0], breaks[n]]: bins[j] is the segment
-	// holding u0 + j/binScale.
+	// holding u0 + j/binScale, for j = 0…nb (one entry past the last bin).
+	// A bin usually lies within one or two segments; where refinement
+	// went deeper than the index resolves, the segments of a bin are
+	// binary-searched, so a lookup never scans more than log2 of them.
 	u0, binScale float64
 	bins         []int32
 
@@ -431,8 +438,7 @@ func (b *tableBuilder) fit(s *tableSegment, x, y []float64, cosm []float64) {
 			}
 		}
 		for k := range r {
-			v, _ := chebValueSlope(c, sk[k])
-			r[k] = yt[k] - v
+			r[k] = yt[k] - chebValue(c, sk[k])
 		}
 	}
 	budget := tableTruncateShare * b.o.Tolerance * scale
@@ -448,10 +454,11 @@ func (b *tableBuilder) fit(s *tableSegment, x, y []float64, cosm []float64) {
 // measure returns the maximum relative error of segment s on its check grid.
 func (b *tableBuilder) measure(s *tableSegment, x, y []float64) float64 {
 	inv := 1 / (s.b - s.a)
+	cd := chebInterleave(nil, s.coeffs, 2*inv)
 	var worst float64
 	for i, xv := range x {
 		u := b.o.XTransform.forward(xv)
-		yy, _ := chebValueSlope(s.coeffs, ((u-s.a)-(s.b-u))*inv)
+		yy, _ := chebEval(cd, ((u-s.a)-(s.b-u))*inv)
 		got := b.o.YTransform.inverse(yy)
 		e := math.Abs(got - y[i])
 		if y[i] != 0 {
@@ -467,29 +474,82 @@ func (b *tableBuilder) measure(s *tableSegment, x, y []float64) float64 {
 	return worst
 }
 
-// chebValueSlope returns Σ c_k T_k(s) and its derivative with respect to s.
-func chebValueSlope(c []float64, s float64) (y, dyds float64) {
-	if len(c) == 0 {
-		return 0, 0
-	}
-	y = c[0]
-	if len(c) == 1 {
-		return y, 0
-	}
-	t0, t1 := 1.0, s
-	d0, d1 := 0.0, 1.0
-	y += c[1] * s
-	dyds = c[1]
+// chebValue returns Σ c_k T_k(s) by Clenshaw's recurrence.
+func chebValue(c []float64, s float64) float64 {
+	var b1, b2 float64
 	s2 := 2 * s
-	for _, ck := range c[2:] {
-		t2 := s2*t1 - t0
-		d2 := 2*t1 + s2*d1 - d0
-		y += ck * t2
-		dyds += ck * d2
-		t0, t1 = t1, t2
-		d0, d1 = d1, d2
+	for k := len(c) - 1; k >= 1; k-- {
+		b1, b2 = c[k]+s2*b1-b2, b1
 	}
-	return y, dyds
+	if len(c) == 0 {
+		return 0
+	}
+	return c[0] + s*b1 - b2
+}
+
+// chebInterleave appends to dst the coefficients c interleaved with those
+// of the derivative series times scale: dst[2k] = c_k, dst[2k+1] = d_k with
+// Σ d_k T_k(s) = scale · d/ds Σ c_k T_k(s). The derivative coefficients
+// follow d_{k−1} = d_{k+1} + 2k·c_k from the top, with d_0 halved.
+func chebInterleave(dst, c []float64, scale float64) []float64 {
+	m := len(c)
+	d := make([]float64, m+2)
+	for k := m - 1; k >= 1; k-- {
+		d[k-1] = d[k+1] + 2*float64(k)*c[k]
+	}
+	d[0] /= 2
+	for k := 0; k < m; k++ {
+		dst = append(dst, c[k], d[k]*scale)
+	}
+	return dst
+}
+
+// chebEval returns Σ c_k T_k(s) and Σ d_k T_k(s) for the interleaved
+// coefficients cd of chebInterleave: the value and the (scaled)
+// derivative, sharing one evaluation of the T_k.
+//
+// The even and odd T_k run as two independent recurrences in
+// w = T_2(s) = 2s² − 1, T_{k+2} = 2w·T_k − T_{k−2}: two short dependency
+// chains instead of one long one. The forward recurrence is stable for
+// |s| ≤ 1.
+func chebEval(cd []float64, s float64) (y, dy float64) {
+	m := len(cd) / 2
+	switch m {
+	case 0:
+		return 0, 0
+	case 1:
+		return cd[0], cd[1]
+	case 2:
+		return cd[0] + cd[2]*s, cd[1] + cd[3]*s
+	}
+	w := 2*s*s - 1
+	w2 := 2 * w
+	e0, e1 := 1.0, w      // T_0, T_2
+	o0, o1 := s, s*(w2-1) // T_1, T_3
+	ye, de := cd[0]+cd[4]*e1, cd[1]+cd[5]*e1
+	yo, do := cd[2]*o0, cd[3]*o0
+	if m > 3 {
+		yo += cd[6] * o1
+		do += cd[7] * o1
+	}
+	k := 4
+	for ; k+1 < m; k += 2 {
+		p := cd[2*k : 2*k+4]
+		e2 := w2*e1 - e0
+		o2 := w2*o1 - o0
+		ye += p[0] * e2
+		de += p[1] * e2
+		yo += p[2] * o2
+		do += p[3] * o2
+		e0, e1 = e1, e2
+		o0, o1 = o1, o2
+	}
+	if k < m {
+		e2 := w2*e1 - e0
+		ye += cd[2*k] * e2
+		de += cd[2*k+1] * e2
+	}
+	return ye + yo, de + do
 }
 
 // LoadTable rebuilds a table from its exported representation (as received
@@ -583,15 +643,19 @@ func newTable(d TableData, quantity, unit string) (*Table, error) {
 		}
 		t.invWidth[i] = 1 / w
 		minW = math.Min(minW, w)
+		t.cd = chebInterleave(t.cd, t.coeffs[t.offsets[i]:t.offsets[i+1]], 2*t.invWidth[i])
 	}
 	full := t.breaks[nseg] - t.breaks[0]
-	nb := int(math.Min(maxTableBins, math.Ceil(full/minW)))
+	// Sixteen bins per segment on average, and at least two per narrowest
+	// segment, so few bins straddle a break (each straddle costs a search
+	// step); at most maxTableBins.
+	nb := int(math.Min(maxTableBins, math.Max(16*float64(nseg), math.Ceil(2*full/minW))))
 	if nb < 1 {
 		nb = 1
 	}
 	t.u0 = t.breaks[0]
 	t.binScale = float64(nb) / full
-	t.bins = make([]int32, nb)
+	t.bins = make([]int32, nb+1)
 	seg := 0
 	for j := range t.bins {
 		u := t.u0 + float64(j)/t.binScale
@@ -647,11 +711,53 @@ func (t *Table) Eval(x float64) (y, dydx float64, err error) {
 	default:
 		u, dudx = x, 1
 	}
-	i := t.segment(u)
-	inv := t.invWidth[i]
-	s := ((u - t.breaks[i]) - (t.breaks[i+1] - u)) * inv
-	yy, dyds := chebValueSlope(t.coeffs[t.offsets[i]:t.offsets[i+1]], s)
-	dyu := dyds * 2 * inv
+	// Segment: the uniform index answers directly unless the bin
+	// straddles a break (or rounding put u in a neighbouring bin).
+	j := int((u - t.u0) * t.binScale)
+	if j < 0 {
+		j = 0
+	} else if j >= len(t.bins)-1 {
+		j = len(t.bins) - 2
+	}
+	i := int(t.bins[j])
+	if i != int(t.bins[j+1]) || u < t.breaks[i] || u > t.breaks[i+1] {
+		i = t.segment(u)
+	}
+	s := ((u - t.breaks[i]) - (t.breaks[i+1] - u)) * t.invWidth[i]
+	cd := t.cd[2*t.offsets[i] : 2*t.offsets[i+1]]
+	var yy, dyu float64
+	if m := len(cd) / 2; m < 4 {
+		yy, dyu = chebEval(cd, s)
+	} else {
+		// chebEval inlined (same operations in the same order, so the
+		// build-time error measurement holds for Eval bit for bit).
+		w := 2*s*s - 1
+		w2 := 2 * w
+		e0, e1 := 1.0, w
+		o0, o1 := s, s*(w2-1)
+		ye, de := cd[0]+cd[4]*e1, cd[1]+cd[5]*e1
+		yo, do := cd[2]*o0, cd[3]*o0
+		yo += cd[6] * o1
+		do += cd[7] * o1
+		k := 4
+		for ; k+1 < m; k += 2 {
+			p := cd[2*k : 2*k+4]
+			e2 := w2*e1 - e0
+			o2 := w2*o1 - o0
+			ye += p[0] * e2
+			de += p[1] * e2
+			yo += p[2] * o2
+			do += p[3] * o2
+			e0, e1 = e1, e2
+			o0, o1 = o1, o2
+		}
+		if k < m {
+			e2 := w2*e1 - e0
+			ye += cd[2*k] * e2
+			de += cd[2*k+1] * e2
+		}
+		yy, dyu = ye+yo, de+do
+	}
 	switch t.yt {
 	case TransformLog:
 		y = math.Exp(yy)
@@ -674,10 +780,19 @@ func (t *Table) segment(u float64) int {
 	j := int((u - t.u0) * t.binScale)
 	if j < 0 {
 		j = 0
-	} else if j >= len(t.bins) {
-		j = len(t.bins) - 1
+	} else if j >= len(t.bins)-1 {
+		j = len(t.bins) - 2
 	}
-	i := int(t.bins[j])
+	i, hi := int(t.bins[j]), int(t.bins[j+1])
+	for i < hi {
+		mid := int(uint(i+hi+1) >> 1)
+		if u >= t.breaks[mid] {
+			i = mid
+		} else {
+			hi = mid - 1
+		}
+	}
+	// Rounding in j may land one segment off.
 	last := len(t.breaks) - 2
 	for i < last && u >= t.breaks[i+1] {
 		i++
@@ -768,12 +883,17 @@ func BuildTemperatureTable(c Correlation, opts TableOptions) (*Table, error) {
 }
 
 // DefaultTransforms returns the recommended (x, y) transforms of the P(T)
-// and T(P) tables of a curve kind: ln P against 1/T for vapour curves
-// (saturation, sublimation), where ln P is nearly linear in 1/T; identity
-// for melting and transition curves, which are steep and close to linear
-// in T and P.
+// and T(P) tables of a curve kind.
+//
+// Sublimation curves span many decades of pressure (water's falls to
+// 1e-40 Pa at 50 K), so their tables interpolate ln P against 1/T, which
+// is nearly linear there. Saturation, melting and transition curves use
+// identity transforms: their pressures span a few decades at most, the
+// adaptive splitting reaches the tolerance with a handful more segments,
+// and evaluation then needs no exp or log, which matters against cheap
+// closed-form sources such as IAPWS-IF97 region 4.
 func DefaultTransforms(k CurveKind) (pOfT, tOfP TableOptions) {
-	if k == Saturation || k == Sublimation {
+	if k == Sublimation {
 		return TableOptions{XTransform: TransformReciprocal, YTransform: TransformLog},
 			TableOptions{XTransform: TransformLog, YTransform: TransformReciprocal}
 	}
