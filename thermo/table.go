@@ -168,15 +168,15 @@ func (e *ToleranceError) Error() string {
 // variables. It is immutable and safe for concurrent use; Eval allocates
 // nothing.
 type Table struct {
-	xt, yt     Transform
-	breaks     []float64
-	offsets    []uint32
-	coeffs     []float64
-	invWidth   []float64 // 1/(breaks[i+1]−breaks[i])
+	xt, yt   Transform
+	breaks   []float64
+	offsets  []uint32
+	coeffs   []float64
+	invWidth []float64 // 1/(breaks[i+1]−breaks[i])
 	// cd interleaves each segment's coefficients with those of its
 	// derivative in u: cd[2k] = c_k, cd[2k+1] = d_k (see chebInterleave);
 	// segment i is cd[2·offsets[i] : 2·offsets[i+1]].
-	cd []float64
+	cd         []float64
 	xmin, xmax float64
 	maxRel     float64
 
