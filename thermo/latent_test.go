@@ -214,6 +214,43 @@ func TestLatentHeatCO2(t *testing.T) {
 	}
 }
 
+// TestLatentHeatCO2Sublimation uses the phase volumes of the default
+// catalog: dry ice at constant density and a second-virial vapour whose
+// B(T) was fitted to Abbott's generalized correlation.
+func TestLatentHeatCO2Sublimation(t *testing.T) {
+	t.Parallel()
+	const tmin = 150
+	vapour := mustVolume(t, "second-virial", Params{"b0": {-3.296354e-4}, "b1": {0.1582631}, "b2": {-31.28114}}, tmin, co2Ttriple)
+	c := LatentCurve{
+		Kind:  Sublimation,
+		Curve: mustCurve(t, "wagner", co2SublimationParams(), tmin, co2Ttriple),
+		Volumes: PhaseVolumes{
+			Low:  mustVolume(t, "linear-density", Params{"rho0": {1562}, "t0": {194.7}, "drho_dt": {0}, "molar_mass": {co2MolarMass}}, tmin, co2Ttriple), // dry ice ≈ 1562 kg/m³, common practice (from memory)
+			High: vapour,
+		},
+		MolarMass: co2MolarMass,
+	}
+	l, err := c.AtPressure(101325)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !scalar.EqualWithinAbs(l.Temperature, 194.686, 0.01) { // normal sublimation point of CO2 ≈ 194.69 K, common practice (from memory)
+		t.Errorf("T_sub(1 atm) = %g K", l.Temperature)
+	}
+	if !scalar.EqualWithinRel(l.Specific, 571e3, 0.01) { // ΔH_sub of dry ice ≈ 571 kJ/kg at 1 atm, common practice (from memory)
+		t.Errorf("ΔH_sub(1 atm) = %.1f J/kg, want about 571 kJ/kg", l.Specific)
+	}
+	// At the triple point the virial vapour lies within 0.6 % of the
+	// Span–Wagner saturated vapour density.
+	v, _, err := vapour.Volume(co2Ttriple, 0.51795e6)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rho := co2MolarMass / v; !scalar.EqualWithinRel(rho, 13.761, 6e-3) { // Span & Wagner (1996), triple-point vapour density (from memory)
+		t.Errorf("virial vapour density at the triple point %g kg/m³, want 13.761 within 0.6 %%", rho)
+	}
+}
+
 func TestLatentHeatErrors(t *testing.T) {
 	t.Parallel()
 	wl := mustVolume(t, "density-power-series", waterLiquidParams(), 300, 400)
