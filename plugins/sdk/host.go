@@ -296,7 +296,7 @@ func evaluate(ctx context.Context, backend string, rpc pluginpb.BackendServiceCl
 // classifyCallError turns a failed call into the error Evaluate returns.
 func classifyCallError(ctx context.Context, backend string, dead <-chan struct{}, err error) error {
 	if ctx.Err() != nil {
-		return fmt.Errorf("sdk: backend %q: %w", backend, err)
+		return fmt.Errorf("sdk: backend %q: %w", backend, ctx.Err())
 	}
 	if status.Code(err) == codes.Unavailable {
 		return fmt.Errorf("%w: backend %q: %v", ErrBackendUnavailable, backend, err)

@@ -4,6 +4,7 @@ import (
 	"bufio"
 	"context"
 	"errors"
+	"log/slog"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -11,6 +12,7 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+	"sync"
 	"sync/atomic"
 	"syscall"
 	"testing"
@@ -393,5 +395,73 @@ func TestHostUnavailableWhileRestarting(t *testing.T) {
 	}
 	if res, err := h.Evaluate(ctx, "slowstart", req); err != nil || res.Results[0] != 13500 {
 		t.Fatalf("after restart: %+v, %v", res, err)
+	}
+}
+
+// TestHostDeadline: a call that outlives its deadline fails with the
+// context's error (not as unavailable), and the backend keeps serving.
+func TestHostDeadline(t *testing.T) {
+	h := newTestHost(t, HostConfig{})
+	if err := h.Start(context.Background(), BackendSpec{Name: "patient"}); err != nil {
+		t.Fatal(err)
+	}
+	ctx, cancel := context.WithTimeout(context.Background(), 100*time.Millisecond)
+	defer cancel()
+	_, err := h.Evaluate(ctx, "patient", EvalRequest{Family: "test-sleep", Params: thermo.Params{"seconds": {30}},
+		Tmin: 1, Tmax: 1000, Op: OpPressure, Values: []float64{300}})
+	if !errors.Is(err, context.DeadlineExceeded) || errors.Is(err, ErrBackendUnavailable) {
+		t.Fatalf("err = %v, want context.DeadlineExceeded", err)
+	}
+	res, err := h.Evaluate(context.Background(), "patient", EvalRequest{Family: "test-line", Params: lineParams, Tmin: 200, Tmax: 300, Op: OpPressure, Values: []float64{250}})
+	if err != nil || res.Results[0] != 13500 {
+		t.Fatalf("after a deadline: %+v, %v", res, err)
+	}
+	if h.Restarts() != 0 {
+		t.Errorf("a deadline restarted the backend")
+	}
+}
+
+// captureHandler records slog records.
+type captureHandler struct {
+	mu      sync.Mutex
+	records []slog.Record
+}
+
+func (c *captureHandler) Enabled(context.Context, slog.Level) bool { return true }
+func (c *captureHandler) Handle(_ context.Context, r slog.Record) error {
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	c.records = append(c.records, r.Clone())
+	return nil
+}
+func (c *captureHandler) WithAttrs([]slog.Attr) slog.Handler { return c }
+func (c *captureHandler) WithGroup(string) slog.Handler      { return c }
+
+func (c *captureHandler) find(level slog.Level, msg string) bool {
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	for _, r := range c.records {
+		if r.Level == level && r.Message == msg {
+			return true
+		}
+	}
+	return false
+}
+
+// TestHostRelaysBackendLogs: a backend's log lines (hclog JSON on its
+// stderr) reach the host's slog logger with their level.
+func TestHostRelaysBackendLogs(t *testing.T) {
+	capture := &captureHandler{}
+	h := newTestHost(t, HostConfig{Logger: slog.New(capture)})
+	if err := h.Start(context.Background(), BackendSpec{Name: "chatty"}); err != nil {
+		t.Fatal(err)
+	}
+	if !capture.find(slog.LevelInfo, "backend started") {
+		t.Error("host did not log the start")
+	}
+	// The panicking family makes the backend log an error.
+	_, _ = h.Evaluate(context.Background(), "chatty", EvalRequest{Family: "test-panic", Op: OpPressure, Values: []float64{1}})
+	if !waitFor(10*time.Second, func() bool { return capture.find(slog.LevelError, "family panicked") }) {
+		t.Error("the backend's error log line did not reach the host logger")
 	}
 }
