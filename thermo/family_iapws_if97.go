@@ -57,9 +57,9 @@ func (IAPWSIF97Family) Name() string { return "iapws-if97" }
 
 // IF97 region 4 limits: the validity range of the saturation equation.
 const (
-	IF97Tmin = 273.15  // K
-	IF97Tc   = 647.096 // K, critical temperature
-	IF97Pc   = 22.064e6
+	IF97Tmin = 273.15   // K, lower end of region 4 (P = 611.213 Pa)
+	IF97Tc   = 647.096  // K, critical temperature, upper end of region 4
+	IF97Pc   = 22.064e6 // Pa, critical pressure
 )
 
 // Coefficients n1…n10 of IAPWS-IF97 region 4, Table 34.
