@@ -276,7 +276,7 @@ func (d *decoder) backend(n *node, dir string, seen []Backend) (Backend, error) 
 }
 
 func (d *decoder) substance(n *node, c *Catalog) (*Substance, []backendRef, error) {
-	s := &Substance{Line: n.line()}
+	s := &Substance{Line: n.line(), File: d.file}
 	var err error
 	if s.ID, err = n.str("id", true); err != nil {
 		return nil, nil, err

@@ -44,7 +44,7 @@ func TestParseGood(t *testing.T) {
 		t.Fatalf("substances not in file order: %+v", c.Substances)
 	}
 	s := c.Lookup("testium")
-	if s.Line != 8 || s.MolarMass != 0.05 || s.Critical == nil || s.Critical.Pressure != 408960.1637877032 {
+	if s.Line != 8 || s.File != "good.toml" || s.MolarMass != 0.05 || s.Critical == nil || s.Critical.Pressure != 408960.1637877032 {
 		t.Errorf("testium = line %d, M %v, critical %+v", s.Line, s.MolarMass, s.Critical)
 	}
 	if len(s.Triple) != 1 || !reflect.DeepEqual(s.Triple[0].Phases, []string{"solid", "liquid", "vapor"}) || s.Triple[0].Temperature != 200 {

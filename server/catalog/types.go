@@ -23,7 +23,7 @@ type Catalog struct {
 // Backend is a third-party backend executable.
 type Backend struct {
 	Name   string
-	Path   string // absolute, or relative to the catalog file's folder
+	Path   string // as written in the file; Load makes a relative path absolute against the file's folder
 	SHA256 string // hex, lower case
 }
 
@@ -58,7 +58,8 @@ type Substance struct {
 	Triple    []TriplePoint
 	Curves    []*Curve
 	Provenance
-	Line int // line in the catalog file where the substance starts
+	Line int    // line in the catalog file where the substance starts
+	File string // the catalog file the substance comes from (the name given to Parse)
 }
 
 // Curve is one coexistence curve of a substance.

@@ -16,7 +16,7 @@ func content(c *Catalog) ([]Backend, []Substance) {
 	var subs []Substance
 	for _, s := range c.Substances {
 		cp := *s
-		cp.Line = 0
+		cp.Line, cp.File = 0, ""
 		cp.Curves = nil
 		for _, cv := range s.Curves {
 			ccv := &Curve{Kind: cv.Kind}
