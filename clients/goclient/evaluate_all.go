@@ -20,8 +20,9 @@ import (
 // request order, exactly as one Evaluate would have returned them
 // (branch_names merged, error indices counted from the start of the batch).
 // With req.Strict the first bad chunk fails the call. A stream broken by
-// UNAVAILABLE (a replica stopping) is resumed on a new stream from the
-// first point not yet answered, up to maxStreamResumes times.
+// UNAVAILABLE (a replica stopping, a backend restarting) is resumed on a
+// new stream from the first point not yet answered, up to maxStreamResumes
+// times in a row without progress.
 func (c *Client) EvaluateAll(ctx context.Context, req *phaseboundpb.EvaluateRequest) (*phaseboundpb.EvaluateResponse, error) {
 	chunk := c.ChunkPoints
 	if chunk <= 0 {
@@ -29,32 +30,60 @@ func (c *Client) EvaluateAll(ctx context.Context, req *phaseboundpb.EvaluateRequ
 	}
 	n := len(req.GetValues())
 	if n <= chunk {
-		return c.rpc.Evaluate(ctx, req)
+		for attempt := 0; ; attempt++ {
+			resp, err := c.rpc.Evaluate(ctx, req)
+			// gRPC's own retries (the service config) cover a replica
+			// going away; a backend plugin restarting under an exact
+			// evaluation takes longer, so keep trying as for streams.
+			if err == nil || !resumable(ctx, err, attempt) {
+				return resp, err
+			}
+		}
 	}
 	out := newMerged(req, n)
 	received := 0 // points answered so far, all from the start of the batch
 	for attempt := 0; ; attempt++ {
+		before := received
 		err := c.streamFrom(ctx, req, chunk, out, &received)
 		if err == nil {
 			return out.resp, nil
 		}
-		// A replica that stops mid-stream ends it with UNAVAILABLE after
-		// some chunks were answered, which gRPC's retry policy cannot
-		// replay; resume from the first unanswered point on a new stream
-		// (the balancer picks a live replica).
-		if status.Code(err) != codes.Unavailable || attempt >= maxStreamResumes || ctx.Err() != nil {
-			return nil, err
+		// A replica that stops mid-stream, or a backend restarting under
+		// an exact evaluation, ends the stream with UNAVAILABLE after some
+		// chunks were answered, which gRPC's retry policy cannot replay;
+		// resume from the first unanswered point on a new stream (the
+		// balancer picks a live replica). Attempts count only while no
+		// progress is made.
+		if received > before {
+			attempt = 0
 		}
-		select {
-		case <-time.After(time.Duration(50<<attempt) * time.Millisecond):
-		case <-ctx.Done():
+		if !resumable(ctx, err, attempt) {
 			return nil, err
 		}
 	}
 }
 
-// maxStreamResumes bounds how often EvaluateAll reopens a broken stream.
-const maxStreamResumes = 4
+// resumable reports whether a call that failed with err may be tried again
+// after this attempt, and then waits out the backoff: only UNAVAILABLE,
+// at most maxStreamResumes times in a row, and not past ctx.
+func resumable(ctx context.Context, err error, attempt int) bool {
+	if status.Code(err) != codes.Unavailable || attempt >= maxStreamResumes || ctx.Err() != nil {
+		return false
+	}
+	t := time.NewTimer(min(time.Duration(50<<attempt)*time.Millisecond, time.Second))
+	defer t.Stop()
+	select {
+	case <-t.C:
+		return true
+	case <-ctx.Done():
+		return false
+	}
+}
+
+// maxStreamResumes bounds how often in a row EvaluateAll reopens a broken
+// stream without getting any further: with its backoff (50 ms doubling to
+// 1 s) about 6.5 s, enough for a backend plugin to restart.
+const maxStreamResumes = 10
 
 // streamFrom streams the points of req from *received on and merges the
 // answers into out, advancing *received as chunks are answered.
