@@ -236,7 +236,11 @@ func PhaseDiagram(ctx context.Context, src Source, id string, opt Options) (*gp.
 			l.Dashes = []vg.Length{vg.Points(5), vg.Points(3)}
 		}
 		p.Add(l)
-		if !seen[c.kind] {
+		visible := false
+		for i := range c.ts {
+			visible = visible || c.ts[i] >= d.tmin && c.ts[i] <= d.tmax && c.ps[i] >= d.pmin && c.ps[i] <= d.pmax
+		}
+		if visible && !seen[c.kind] {
 			seen[c.kind] = true
 			p.Legend.Add(kindName(c.kind), l)
 		}
@@ -280,10 +284,14 @@ func PhaseDiagram(ctx context.Context, src Source, id string, opt Options) (*gp.
 	ann := &annotations{d: d, data: opt.Data}
 	tp := markerGlyph(tripleGlyph)
 	cp := markerGlyph(criticalGlyph)
-	if len(d.sub.GetTriplePoints()) > 0 {
-		p.Legend.Add("triple point", tp)
+	inside := func(t, pr float64) bool { return t >= d.tmin && t <= d.tmax && pr >= d.pmin && pr <= d.pmax }
+	for _, x := range d.sub.GetTriplePoints() {
+		if inside(x.GetTemperatureK(), x.GetPressurePa()) {
+			p.Legend.Add("triple point", tp)
+			break
+		}
 	}
-	if d.sub.GetCriticalPoint() != nil {
+	if x := d.sub.GetCriticalPoint(); x != nil && inside(x.GetTemperatureK(), x.GetPressurePa()) {
 		p.Legend.Add("critical point", cp)
 	}
 	p.Legend.Top = false
@@ -586,32 +594,69 @@ func (a *annotations) Plot(c draw.Canvas, p *gp.Plot) {
 		}
 		place(m.label, sty, best)
 	}
-	// 2. Curve labels, on their curves (the halo breaks the line).
-	for ci, cd := range d.curves {
+	// 2. Curve labels: on the curve where it has room (the halo breaks the
+	// line), else beside it with a leader line. Short branches choose
+	// first, having the fewest places to go.
+	order := make([]int, len(d.curves))
+	for i := range order {
+		order[i] = i
+	}
+	sort.SliceStable(order, func(i, j int) bool {
+		return polylineLength(flatten(lines[order[i]])) < polylineLength(flatten(lines[order[j]]))
+	})
+	for _, ci := range order {
+		cd := d.curves[ci]
 		sty := newTextStyle(9, true, false, kindColor(cd.kind))
 		w, h := sty.Width(cd.label)+6, sty.Height(cd.label)+3
 		pts := flatten(lines[ci])
 		if len(pts) < 2 {
 			continue
 		}
-		best, bestN := vg.Rectangle{}, math.MaxInt
-		for _, f := range []float64{0.5, 0.4, 0.6, 0.3, 0.7, 0.2, 0.8, 0.12, 0.88} {
-			at := alongPolyline(pts, f)
-			for _, off := range []vg.Length{0, h, -h} {
-				r := vg.Rectangle{Min: vg.Point{X: at.X - w/2, Y: at.Y - h/2 + off}, Max: vg.Point{X: at.X + w/2, Y: at.Y + h/2 + off}}
-				n := pl.conflicts(r, 0, ci, -1)
-				if off != 0 {
-					n++ // prefer labels on the curve
-				}
-				if n < bestN {
-					best, bestN = r, n
-				}
-			}
-			if bestN == 0 {
-				break
+		type cand struct {
+			r      vg.Rectangle
+			anchor vg.Point
+			leader bool
+			cost   int
+		}
+		best := cand{cost: math.MaxInt}
+		consider := func(c cand) {
+			if c.cost < best.cost {
+				best = c
 			}
 		}
-		place(cd.label, sty, best)
+		rectAt := func(ctr vg.Point) vg.Rectangle {
+			return vg.Rectangle{Min: vg.Point{X: ctr.X - w/2, Y: ctr.Y - h/2}, Max: vg.Point{X: ctr.X + w/2, Y: ctr.Y + h/2}}
+		}
+		for _, f := range []float64{0.5, 0.4, 0.6, 0.3, 0.7, 0.2, 0.8, 0.12, 0.88} {
+			at := alongPolyline(pts, f)
+			consider(cand{r: rectAt(at), anchor: at, cost: 100 * pl.conflicts(rectAt(at), 0, ci, -1)})
+		}
+		if best.cost > 0 {
+			dirs := [][2]float64{{1, 0}, {-1, 0}, {0, 1}, {0, -1}, {1, 1}, {-1, 1}, {1, -1}, {-1, -1}}
+			for _, f := range []float64{0.5, 0.3, 0.7} {
+				at := alongPolyline(pts, f)
+				for k, dist := range []vg.Length{h, 2.5 * h, 4.5 * h} {
+					for _, dv := range dirs {
+						ctr := vg.Point{
+							X: at.X + vg.Length(dv[0])*(w/2+dist),
+							Y: at.Y + vg.Length(dv[1])*(h/2+dist),
+						}
+						r := rectAt(ctr)
+						consider(cand{r: r, anchor: at, leader: true, cost: 100*pl.conflicts(r, 0, -1, -1) + 10 + 5*k})
+					}
+				}
+			}
+		}
+		if best.leader {
+			from := nearestOnRect(best.r, best.anchor)
+			pl.markPolyline([]vg.Point{from, best.anchor}, cellBlock)
+			clr := kindColor(cd.kind)
+			a, b := from, best.anchor
+			draws = append(draws, func() {
+				c.StrokeLine2(draw.LineStyle{Color: clr, Width: vg.Points(0.7)}, a.X, a.Y, b.X, b.Y)
+			})
+		}
+		place(cd.label, sty, best.r)
 	}
 	// 3. Region names, where each has the most room.
 	if g := d.regions; g != nil {
@@ -675,6 +720,13 @@ func (pl *placer) bestRegionSpot(ri int, w, h vg.Length) (vg.Rectangle, bool) {
 		}
 	}
 	return best, bestGrow >= 0
+}
+
+// nearestOnRect returns the point of r's boundary nearest p.
+func nearestOnRect(r vg.Rectangle, p vg.Point) vg.Point {
+	q := vg.Point{X: vg.Length(math.Max(float64(r.Min.X), math.Min(float64(r.Max.X), float64(p.X)))),
+		Y: vg.Length(math.Max(float64(r.Min.Y), math.Min(float64(r.Max.Y), float64(p.Y))))}
+	return q
 }
 
 func hasVapourPhase(ph []string) bool {

@@ -158,7 +158,7 @@ func shade(c color.Color, i, n int) color.Color {
 		return c
 	}
 	r, g, b, _ := c.RGBA()
-	f := 0.55 + 0.9*float64(i)/float64(n-1) // 0.55 … 1.45
+	f := 0.7 + 0.6*float64(i)/float64(n-1) // 0.7 … 1.3
 	mix := func(v uint32) uint8 {
 		x := float64(v >> 8)
 		if f <= 1 {

@@ -202,7 +202,11 @@ func (pressureTicks) Ticks(min, max float64) []gp.Tick {
 			for m := 2; m <= 9; m++ {
 				w := v + math.Log10(float64(m))
 				if w >= min && w <= max {
-					ticks = append(ticks, gp.Tick{Value: w})
+					label := ""
+					if span <= 3 && (m == 2 || m == 5) {
+						label = FormatPressure(float64(m) * math.Pow(10, v))
+					}
+					ticks = append(ticks, gp.Tick{Value: w, Label: label})
 				}
 			}
 		}

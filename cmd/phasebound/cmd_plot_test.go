@@ -99,6 +99,19 @@ func TestPlotKinds(t *testing.T) {
 		}
 		checkImageFile(t, out)
 	}
+	// The embedded default catalog's water: five melting branches, the
+	// sublimation curve down to 50 K (clipped by the automatic axes).
+	for _, name := range []string{"water.png", "water-latent.svg"} {
+		out := filepath.Join(dir, name)
+		args := []string{"plot", "--substance", "water", "--out", out}
+		if strings.Contains(name, "latent") {
+			args = append(args, "--kind", "latent-heat")
+		}
+		if code, _, errOut := runCmd(t, args...); code != 0 {
+			t.Fatalf("%s: exit %d: %s", name, code, errOut)
+		}
+		checkImageFile(t, out)
+	}
 	// --json reports what was written.
 	out := filepath.Join(dir, "j.png")
 	code, stdout, errOut := runCmd(t, "--catalog", goodCatalog, "--json", "plot", "--substance", "testium", "--out", out)
