@@ -198,7 +198,14 @@ func num(v float64) string {
 	case math.IsInf(v, -1):
 		return "-inf"
 	}
-	s := strconv.FormatFloat(v, 'g', -1, 64)
+	// Plain decimals read best in the range catalogs use; the shortest
+	// representation in either notation reads back to the same float.
+	var s string
+	if a := math.Abs(v); a == 0 || (a >= 1e-4 && a < 1e16) {
+		s = strconv.FormatFloat(v, 'f', -1, 64)
+	} else {
+		s = strconv.FormatFloat(v, 'e', -1, 64)
+	}
 	if !strings.ContainsAny(s, ".eEn") {
 		s += ".0"
 	}

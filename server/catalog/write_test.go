@@ -66,8 +66,8 @@ func TestWriteRoundTrip(t *testing.T) {
 		"format = 1\n",
 		"[[backend]]\nname = \"lab-fits\"\n",
 		"    [[substance.curve.branch]]\n    name = \"solid-I\"\n    family = \"simon-glatzel\"\n",
-		"    [substance.curve.branch.params]\n    a = 3e+08\n    c = 2.0\n",
-		"    slope = [3e+06, 1000.0]\n",
+		"    [substance.curve.branch.params]\n    a = 300000000.0\n    c = 2.0\n",
+		"    slope = [3000000.0, 1000.0]\n",
 		"    [substance.curve.branch.volume_low]\n    family = \"linear-density\"\n",
 	} {
 		if !strings.Contains(text, want) {
@@ -108,7 +108,8 @@ func TestNum(t *testing.T) {
 		v    float64
 		want string
 	}{
-		{1, "1.0"}, {-2, "-2.0"}, {0.1, "0.1"}, {1e21, "1e+21"}, {2.5e-7, "2.5e-07"},
+		{1, "1.0"}, {-2, "-2.0"}, {0.1, "0.1"}, {1e21, "1e+21"}, {2.5e-7, "2.5e-07"}, {1e-4, "0.0001"},
+		{2436831.3284154017, "2436831.3284154017"}, {1.8e-6, "1.8e-06"}, {9.999999999999998e15, "9999999999999998.0"}, {1e16, "1e+16"},
 		{math.Inf(1), "inf"}, {math.Inf(-1), "-inf"}, {math.NaN(), "nan"}, {math.Copysign(0, -1), "-0.0"},
 	} {
 		if got := num(tc.v); got != tc.want {
