@@ -298,7 +298,11 @@ func classifyCallError(ctx context.Context, backend string, dead <-chan struct{}
 	if ctx.Err() != nil {
 		return fmt.Errorf("sdk: backend %q: %w", backend, ctx.Err())
 	}
-	if status.Code(err) == codes.Unavailable {
+	switch status.Code(err) {
+	case codes.DeadlineExceeded:
+		// gRPC's own timer for the deadline may fire before the context's.
+		return fmt.Errorf("sdk: backend %q: %w", backend, context.DeadlineExceeded)
+	case codes.Unavailable:
 		return fmt.Errorf("%w: backend %q: %v", ErrBackendUnavailable, backend, err)
 	}
 	select {
