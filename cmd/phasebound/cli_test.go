@@ -47,7 +47,7 @@ func TestEvalReferenceValues(t *testing.T) {
 	}{
 		{[]string{"--substance", "water", "--curve", "saturation", "--temperature", "300"}, "pressure_pa", 3.53658941e3, 1e-8},                  // IAPWS-IF97 Psat(300 K) = 3.53658941 kPa, Table 35 check value
 		{[]string{"--substance", "water", "--curve", "saturation", "--temperature", "26.85degC"}, "pressure_pa", 3.53658941e3, 1e-8},            // IAPWS-IF97 Psat(300 K), Table 35 check value, given in degC
-		{[]string{"--substance", "water", "--curve", "saturation", "--pressure", "1MPa"}, "temperature_k", 453.035632, 1e-8},                    // IAPWS-IF97 Tsat(1 MPa), Table 36 check value
+		{[]string{"--substance", "water", "--curve", "saturation", "--pressure", "1MPa"}, "temperature_k", 453.035632, 1e-8},                    // IAPWS-IF97 Tsat(1 MPa), Table 36 check value (from memory)
 		{[]string{"--substance", "water", "--curve", "melting", "--branch", "ice-Ih", "--temperature", "260"}, "pressure_pa", 138.268e6, 1e-5},  // IAPWS R14-08 ice Ih 260 K -> 138.268 MPa
 		{[]string{"--substance", "water", "--curve", "melting", "--branch", "ice-III", "--temperature", "254"}, "pressure_pa", 268.685e6, 1e-5}, // IAPWS R14-08 ice III 254 K -> 268.685 MPa
 		{[]string{"--substance", "water", "--curve", "sublimation", "--temperature", "230"}, "pressure_pa", 8.94735, 1e-5},                      // IAPWS R14-08 sublimation 230 K -> 8.94735 Pa
