@@ -15,7 +15,7 @@ const DefaultTableTolerance = 1e-11
 const (
 	// DefaultTableNodes is the number of interpolation nodes per segment
 	// (polynomial degree + 1) when TableOptions.Nodes is zero.
-	DefaultTableNodes = 10
+	DefaultTableNodes = 8
 	// DefaultTableMaxSegments caps the segments of one table when
 	// TableOptions.MaxSegments is zero.
 	DefaultTableMaxSegments = 2048
