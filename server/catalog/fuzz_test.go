@@ -16,12 +16,18 @@ func FuzzParse(f *testing.F) {
 	if err != nil {
 		f.Fatal(err)
 	}
-	demo, err := defaultFS.ReadFile("default/demo.toml")
+	f.Add(good)
+	embedded, err := defaultFS.ReadDir("default")
 	if err != nil {
 		f.Fatal(err)
 	}
-	f.Add(good)
-	f.Add(demo)
+	for _, e := range embedded {
+		data, err := defaultFS.ReadFile("default/" + e.Name())
+		if err != nil {
+			f.Fatal(err)
+		}
+		f.Add(data)
+	}
 	f.Add([]byte(overlayText))
 	f.Add([]byte("format = 1\n"))
 	f.Add([]byte("format = 1\ninclude_default = true\n"))

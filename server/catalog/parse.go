@@ -22,6 +22,52 @@ import (
 
 // FormatVersion is the catalog format this package reads and writes (the
 // top-level key format).
+//
+// A catalog is a TOML file, every number SI (K, Pa, J/mol, m³/mol, kg/mol):
+//
+//	format = 1                  # required
+//	include_default = false     # true: merge on top of Default() (same id replaces)
+//
+//	[[backend]]                 # third-party backend executables only
+//	name = "lab-fits"           # [a-z0-9-]+, not a standard backend's name
+//	path = "bin/lab-fits"       # relative to the catalog file's folder, or absolute
+//	sha256 = "<64 hex digits>"  # the executable is refused when it does not match
+//
+//	[[substance]]
+//	id = "water"                # [a-z0-9-]+, unique
+//	name = "Water"              # optional
+//	molar_mass = 0.018015268    # > 0
+//	critical = { temperature = 647.096, pressure = 22.064e6 }   # optional
+//	provenance = { kind = "published", citation = "..." }       # optional; branches inherit it
+//	  [[substance.triple]]      # any number
+//	  phases = ["ice-Ih", "liquid", "vapor"]
+//	  temperature = 273.16
+//	  pressure = 611.657
+//	  [[substance.curve]]       # at least one; kinds unique per substance
+//	  kind = "melting"          # saturation | melting | sublimation | transition
+//	    [[substance.curve.branch]]  # at least one
+//	    name = "ice-Ih"         # required when the curve has several branches
+//	    family = "power-sum"    # a registered family (thermo.FamilyNames)
+//	    backend = ""            # "" = the family's standard backend; a standard or declared name
+//	    t_min = 251.165         # 0 < t_min < t_max
+//	    t_max = 273.16
+//	    solid_form = "ice-Ih"   # optional
+//	    uncertainty = "..."     # optional, free text
+//	    params = { t_ref = 273.16, p_ref = 611.657, a = [...], b = [...] }
+//	    provenance = { kind = "fit", data_file = "runs.csv", data_sha256 = "<64 hex>" }
+//	    volume_low = { family = "linear-density", params = { rho0 = 916.7, t0 = 273.15, drho_dt = 0.0 } }
+//	    volume_high = { family = "ideal-gas" }
+//	    reference = { temperature = 273.16, delta_h = 6007.0, delta_v = -1.634e-6 }
+//
+// Provenance kinds: "published" needs citation, "fit" needs data_file and
+// data_sha256, "invented" marks demonstration data (never for design); note
+// is free text. Parameters are numbers or lists of numbers. Volume
+// parameters get the substance's molar_mass when they do not give one.
+// Unknown fields are errors, so a misspelt key never passes silently. Each
+// branch's correlation and phase volumes are built once at load, so
+// parameters a family refuses are reported with their line; a branch
+// served by a third-party backend is checked by that backend when the
+// server starts it.
 const FormatVersion = 1
 
 // Provenance kinds.
