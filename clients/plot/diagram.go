@@ -210,7 +210,7 @@ func PhaseDiagram(ctx context.Context, src Source, id string, opt Options) (*gp.
 			title = d.sub.GetId() + " — phase diagram"
 		}
 		if invented(d.sub) {
-			title += " (invented data: not for design)"
+			title += "\ninvented data: not for design"
 		}
 	}
 	p := newPlot(title, "temperature T (K)", "pressure P (logarithmic)")

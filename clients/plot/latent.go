@@ -41,7 +41,7 @@ func LatentHeat(ctx context.Context, src Source, id string, opt Options) (*gp.Pl
 		}
 		title = name + " — latent heat along each curve (Clapeyron)"
 		if invented(sub) {
-			title += ", invented data"
+			title += "\ninvented data: not for design"
 		}
 	}
 	p := newPlot(title, "temperature T (K)", "latent heat ΔH ("+unit+")")

@@ -44,6 +44,7 @@ const (
 	CodeLatentHeat         = "latent-heat-vs-reference"     // served latent heat against a given ΔH
 	CodeTripleEnthalpySum  = "triple-point-enthalpy-sum"    // ΔH_sub = ΔH_fus + ΔH_vap at a triple point
 	CodeVolumeSignMismatch = "volume-sign"                  // catalog ΔV and phase volumes disagree in sign
+	CodeJunctionNotTriple  = "junction-not-triple-point"    // two solid forms' branches meet where no triple point is listed
 )
 
 // Tolerances are the limits the checks measure against. The zero value of
@@ -566,6 +567,7 @@ func (a *auditor) checkCoverage(c *catalog.Curve) {
 			_, ph := prev.ends()
 			nl, _ := next.ends()
 			a.checkJunction(prev, next, ph, nl)
+			a.checkJunctionTriple(prev, next, ph)
 		}
 		return
 	}
@@ -609,7 +611,44 @@ func (a *auditor) checkCoverage(c *catalog.Curve) {
 			continue
 		}
 		a.checkJunction(prev, next, best[0], best[1])
+		a.checkJunctionTriple(prev, next, best[0])
 	}
+}
+
+func form(br *branch) string {
+	if br.b.SolidForm != "" {
+		return br.b.SolidForm
+	}
+	return br.b.Name
+}
+
+// checkJunctionTriple checks that where the branches of two different
+// solid forms meet, the catalog lists the triple point (the two solids and
+// the curve's other phase coexist there), so that phase location and the
+// audit know it.
+func (a *auditor) checkJunctionTriple(prev, next *branch, e end) {
+	f1, f2 := form(prev), form(next)
+	if !e.ok || f1 == "" || f2 == "" || f1 == f2 {
+		return
+	}
+	a.checks++
+	for _, tp := range a.sub.Triple {
+		has := func(x string) bool {
+			for _, p := range tp.Phases {
+				if p == x {
+					return true
+				}
+			}
+			return false
+		}
+		if has(f1) && has(f2) && math.Abs(tp.Temperature-e.t) <= a.tol.TripleTemperatureK {
+			return
+		}
+	}
+	a.add(SeverityWarning, CodeJunctionNotTriple, next,
+		map[string]float64{"temperature_k": e.t, "pressure_pa": e.p},
+		"%s and %s meet at %g K, %.6g Pa, but the catalog lists no triple point of %s and %s there; add it so phase location and the audit know it",
+		name(prev), name(next), e.t, e.p, f1, f2)
 }
 
 // checkJunction compares the pressures of two branches where they touch.
@@ -874,16 +913,16 @@ func (a *auditor) checkEnthalpySum(tp catalog.TriplePoint) {
 		"saturation_j_per_mol": hv, "deviation_rel": rel, "tolerance_rel": a.tol.EnthalpySumRel}
 	detail := fmt.Sprintf("ΔH_sub = %.5g J/mol (%s), ΔH_fus = %.5g J/mol (%s), ΔH_vap = %.5g J/mol (%s)", hs, ss, hf, sf, hv, sv)
 	sev := SeverityInfo
-	verdict := "agrees with"
+	verdict := "agree"
 	if math.Abs(rel) > a.tol.EnthalpySumRel {
-		verdict = "differs from"
+		verdict = "disagree"
 		sev = SeverityError
 		if !es || !ef || !ev {
 			sev = SeverityWarning // an estimate is in the sum
 		}
 	}
 	a.add(sev, CodeTripleEnthalpySum, nil, vals,
-		"triple point %s at %g K: ΔH_sub %s ΔH_fus + ΔH_vap by %+.2f%% (tolerance %.2g%%); %s",
+		"triple point %s at %g K: ΔH_sub and ΔH_fus + ΔH_vap %s (they differ by %+.2f%% of ΔH_sub, tolerance %.2g%%); %s",
 		strings.Join(tp.Phases, "/"), t, verdict, 100*rel, 100*a.tol.EnthalpySumRel, detail)
 	a.findings[len(a.findings)-1].Phases = tp.Phases
 }

@@ -91,6 +91,7 @@ func TestBrokenCatalogs(t *testing.T) {
 		{"enthalpy-sum.toml", CodeTripleEnthalpySum, SeverityError, "", "sublimation_j_per_mol", 30000, 1e-12},
 		{"range-gap.toml", CodeRangeGap, SeverityError, "saturation", "temperature_gap_k", 5, 1e-12},
 		{"melting-gap.toml", CodeRangeGap, SeverityError, "melting", "temperature_gap_k", 10, 1e-12},
+		{"missing-triple.toml", CodeJunctionNotTriple, SeverityWarning, "melting", "pressure_pa", 168751000, 1e-12},
 	}
 	for _, tc := range tests {
 		t.Run(tc.file+"/"+tc.code, func(t *testing.T) {
@@ -138,6 +139,7 @@ func TestBrokenCatalogsOnlyTheirFindings(t *testing.T) {
 		"enthalpy-sum.toml":      {CodeTripleEnthalpySum},
 		"range-gap.toml":         {CodeRangeGap},
 		"melting-gap.toml":       {CodeRangeGap},
+		"missing-triple.toml":    {CodeJunctionNotTriple},
 	}
 	for file, codes := range allowed {
 		r, err := Check(loadTestCatalog(t, file), "testium", Tolerances{})
