@@ -8,6 +8,7 @@ import (
 	"path"
 	"slices"
 	"sort"
+	"strings"
 	"sync"
 )
 
@@ -23,7 +24,7 @@ var defaultOrder = []string{"water.toml", "carbon-dioxide.toml", "demo.toml"}
 // DefaultSource is the Source of the embedded default catalog.
 const DefaultSource = "embedded default"
 
-var defaultCatalog = sync.OnceValues(loadDefault)
+var defaultCatalog = sync.OnceValues(func() (*Catalog, error) { return loadDefault(defaultFS) })
 
 // Default returns the embedded default catalog: water, carbon dioxide and
 // the invented substances of the demo scenario. It is parsed once and
@@ -31,14 +32,17 @@ var defaultCatalog = sync.OnceValues(loadDefault)
 // broken, which the package's tests catch.
 func Default() (*Catalog, error) { return defaultCatalog() }
 
-func loadDefault() (*Catalog, error) {
-	entries, err := fs.ReadDir(defaultFS, "default")
+// loadDefault parses and merges fsys's default/*.toml in the fixed order.
+func loadDefault(fsys fs.FS) (*Catalog, error) {
+	entries, err := fs.ReadDir(fsys, "default")
 	if err != nil {
 		return nil, fmt.Errorf("catalog: embedded default: %w", err)
 	}
 	names := make([]string, 0, len(entries))
 	for _, e := range entries {
-		names = append(names, e.Name())
+		if !e.IsDir() && strings.HasSuffix(e.Name(), ".toml") {
+			names = append(names, e.Name())
+		}
 	}
 	sort.Slice(names, func(i, j int) bool {
 		ri, rj := rank(names[i]), rank(names[j])
@@ -49,7 +53,7 @@ func loadDefault() (*Catalog, error) {
 	})
 	var c *Catalog
 	for _, name := range names {
-		data, err := defaultFS.ReadFile(path.Join("default", name))
+		data, err := fs.ReadFile(fsys, path.Join("default", name))
 		if err != nil {
 			return nil, fmt.Errorf("catalog: embedded default: %w", err)
 		}

@@ -663,11 +663,11 @@ func (d *decoder) volume(n *node, key string, s *Substance, b *Branch, c *Catalo
 	if err != nil {
 		return nil, nil, vn.errAt("family", fmt.Errorf("%s.family %q is not known (valid: %s)", key, v.Family, strings.Join(thermo.VolumeFamilyNames(), ", ")))
 	}
-	if err := vn.checkStandard("backend", v.Backend, v.Family); err != nil {
-		return nil, nil, err
-	}
 	if _, err := newVolume(fam, v.Params, b.Tmin, b.Tmax); err != nil {
 		return nil, nil, vn.errAt("params", fmt.Errorf("volume family %q: %w", v.Family, err))
+	}
+	if err := vn.checkStandard("backend", v.Backend, v.Family); err != nil {
+		return nil, nil, err
 	}
 	return v, refs, nil
 }
@@ -770,9 +770,6 @@ func (d *decoder) checkFamily(n *node, b *Branch) error {
 	if err != nil {
 		return n.errAt("family", fmt.Errorf("family %q is not known (valid: %s)", b.Family, strings.Join(thermo.FamilyNames(), ", ")))
 	}
-	if err := n.checkStandard("backend", b.Backend, b.Family); err != nil {
-		return err
-	}
 	corr, err := newCorrelation(fam, b.Params, b.Tmin, b.Tmax)
 	if err != nil {
 		return n.errAt("params", fmt.Errorf("family %q: %w", b.Family, err))
@@ -786,7 +783,7 @@ func (d *decoder) checkFamily(n *node, b *Branch) error {
 			return n.errAt("params", fmt.Errorf("family %q gives P(%v K) = %v Pa, not a positive pressure", b.Family, t, p))
 		}
 	}
-	return nil
+	return n.checkStandard("backend", b.Backend, b.Family)
 }
 
 func pressureAt(c thermo.Correlation, t float64) (p float64, err error) {
