@@ -226,7 +226,7 @@ func (c *Curve) Pressure(t float64, o CurveOptions) (CurvePoint, error) {
 	}
 	if count == 0 {
 		i, dist := c.nearest(t, true)
-		if dist <= BranchMeetTolerance*t {
+		if dist <= BranchMeetTolerance*t && c.insideHull(t, true) {
 			if pt, err := c.pressureOn(i, t, true); err == nil {
 				pt.Extrapolated = false // inside a seam between branches, not beyond the curve
 				return pt, nil
@@ -287,7 +287,7 @@ func (c *Curve) Temperature(p float64, o CurveOptions) (CurvePoint, error) {
 	}
 	if count == 0 {
 		i, dist := c.nearest(p, false)
-		if dist <= BranchMeetTolerance*p {
+		if dist <= BranchMeetTolerance*p && c.insideHull(p, false) {
 			if pt, err := c.temperatureOn(i, p, true); err == nil {
 				pt.Extrapolated = false // inside a seam between branches, not beyond the curve
 				return pt, nil
@@ -405,6 +405,19 @@ func (c *Curve) nearest(v float64, byT bool) (int, float64) {
 		}
 	}
 	return best, dist
+}
+
+// insideHull reports whether v lies between the lowest and the highest
+// end of the branch intervals: a gap there is a seam between branches,
+// not the end of the curve.
+func (c *Curve) insideHull(v float64, byT bool) bool {
+	below, above := false, false
+	for i := range c.Branches {
+		lo, hi := c.crvInterval(i, byT)
+		below = below || lo <= v
+		above = above || hi >= v
+	}
+	return below && above
 }
 
 // matching lists the names of the branches whose interval holds v.

@@ -90,6 +90,10 @@ func TestCurvePressureErrors(t *testing.T) {
 	if !errors.As(err, &re) || re.Min != 250 || re.Max != 273.3 || re.Value != 300 || re.Unit != "K" {
 		t.Errorf("T = 300 K: got %v, want a RangeError [250, 273.3] K", err)
 	}
+	// Just past the curve's end is not a seam between branches.
+	if _, err := cv.Pressure(273.3001, CurveOptions{}); !errors.As(err, &re) {
+		t.Errorf("T just past the last branch: got %v, want a RangeError", err)
+	}
 	_, err = cv.Pressure(260, CurveOptions{Branch: "B"})
 	if !errors.As(err, &re) || re.Min != 250 || re.Max != 256 {
 		t.Errorf("B at 260 K: got %v, want a RangeError [250, 256]", err)

@@ -903,14 +903,23 @@ func DefaultTransforms(k CurveKind) (pOfT, tOfP TableOptions) {
 
 // TableCorrelation is a Correlation served by compiled tables: P(T) and
 // dP/dT from a pressure table, T(P) from a temperature table. Its slope is
-// the derivative of the interpolant, not the source's analytic slope. It
-// does not extrapolate.
+// the derivative of the interpolant, not the source's analytic slope.
+//
+// As an Extrapolator it reaches only a hair beyond its tables: up to
+// BranchMeetTolerance relative to the value, linearly from the nearest
+// end, which is what a Curve needs to close the seams where published
+// branches meet only to rounding. Farther out it gives a *RangeError that
+// also wraps ErrNotImplemented: tables do not extrapolate; evaluate the
+// source correlation instead.
 type TableCorrelation struct {
 	pt, tp *Table
 	r      Range
 }
 
-var _ Correlation = (*TableCorrelation)(nil)
+var (
+	_ Correlation  = (*TableCorrelation)(nil)
+	_ Extrapolator = (*TableCorrelation)(nil)
+)
 
 // NewTableCorrelation pairs a P(T) table with a T(P) table of the same
 // branch. tOfP may be nil, in which case Temperature reports
@@ -985,3 +994,31 @@ func (c *TableCorrelation) Temperature(p float64) (float64, error) {
 
 // Range implements Correlation.
 func (c *TableCorrelation) Range() Range { return c.r }
+
+// PressureSlopeBeyond implements Extrapolator within BranchMeetTolerance
+// of the temperature range (see TableCorrelation).
+func (c *TableCorrelation) PressureSlopeBeyond(t float64) (p, dpdt float64, err error) {
+	if c.r.ContainsT(t) || !(t > 0) || math.IsInf(t, 0) {
+		return c.PressureSlope(t)
+	}
+	tc := math.Min(math.Max(t, c.r.Tmin), c.r.Tmax)
+	if math.Abs(t-tc) > BranchMeetTolerance*t {
+		return 0, 0, fmt.Errorf("%w; compiled tables do not extrapolate: %w", CheckTemperature(t, c.r), ErrNotImplemented)
+	}
+	p, dpdt, err = c.pt.Eval(tc)
+	return p + dpdt*(t-tc), dpdt, err
+}
+
+// TemperatureBeyond implements Extrapolator within BranchMeetTolerance of
+// the pressure range (see TableCorrelation).
+func (c *TableCorrelation) TemperatureBeyond(p float64) (float64, error) {
+	if c.r.ContainsP(p) || !(p > 0) || math.IsInf(p, 0) || c.tp == nil {
+		return c.Temperature(p)
+	}
+	pc := math.Min(math.Max(p, c.r.Pmin), c.r.Pmax)
+	if math.Abs(p-pc) > BranchMeetTolerance*p {
+		return 0, fmt.Errorf("%w; compiled tables do not extrapolate: %w", CheckPressure(p, c.r), ErrNotImplemented)
+	}
+	t, dtdp, err := c.tp.Eval(pc)
+	return t + dtdp*(p-pc), err
+}

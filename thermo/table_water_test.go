@@ -1,9 +1,12 @@
 package thermo
 
 import (
+	"errors"
 	"math"
 	"math/rand/v2"
 	"testing"
+
+	"gonum.org/v1/gonum/floats/scalar"
 )
 
 // tstRealBranches lists every published branch of the water and carbon
@@ -92,5 +95,54 @@ func TestTablesOfPublishedCurves(t *testing.T) {
 		t.Logf("%-34s P(T) %2d seg %3d coef err %.1e (random %.1e, slope %.1e) | T(P) %2d seg %3d coef err %.1e (random %.1e)",
 			br.name, pt.Segments(), pt.Coefficients(), pt.MaxRelError(), worstP, worstSlope,
 			tp.Segments(), tp.Coefficients(), tp.MaxRelError(), worstT)
+	}
+}
+
+// A melting curve made of table-backed branches answers like the source,
+// seams included.
+func TestTableBackedCurve(t *testing.T) {
+	t.Parallel()
+	src := tstWaterMelting(t)
+	var brs []Branch
+	for _, b := range src.Branches {
+		po, to := DefaultTransforms(Melting)
+		pt, err := BuildPressureTable(b.Corr, po)
+		if err != nil {
+			t.Fatal(err)
+		}
+		tp, err := BuildTemperatureTable(b.Corr, to)
+		if err != nil {
+			t.Fatal(err)
+		}
+		tc, err := NewTableCorrelation(pt, tp)
+		if err != nil {
+			t.Fatal(err)
+		}
+		brs = append(brs, Branch{Name: b.Name, SolidForm: b.SolidForm, Corr: tc})
+	}
+	cv, err := NewCurve(Melting, brs...)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, p := range []float64{1e5, 150e6, 208.566e6, 300e6, 632.3996e6, 1e9, 1e10} {
+		got, err := cv.Temperature(p, CurveOptions{})
+		want, err2 := src.Temperature(p, CurveOptions{})
+		slopeTol := 1e-7
+		if p == 632.3996e6 { // in the V–VI seam the table continues its slope linearly
+			slopeTol = 1e-6
+		}
+		if err != nil || err2 != nil || got.Branch != want.Branch || !scalar.EqualWithinAbsOrRel(got.Temperature, want.Temperature, 0, 2e-11) ||
+			!scalar.EqualWithinAbsOrRel(got.Slope, want.Slope, 0, slopeTol) {
+			t.Errorf("T(%g Pa): table %+v (%v), source %+v (%v)", p, got, err, want, err2)
+		}
+	}
+	// Tables extrapolate only across seams.
+	var re *RangeError
+	if _, err := cv.Temperature(3e10, CurveOptions{AllowExtrapolation: true}); !errors.As(err, &re) || !errors.Is(err, ErrNotImplemented) {
+		t.Errorf("far extrapolation from tables: got %v, want a RangeError wrapping ErrNotImplemented", err)
+	}
+	pt, err := cv.Pressure(715.001, CurveOptions{AllowExtrapolation: true})
+	if err != nil || !pt.Extrapolated {
+		t.Errorf("a hair beyond the last branch: %+v, %v", pt, err)
 	}
 }
