@@ -6,6 +6,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
+	"net"
 	"os"
 	"path/filepath"
 	"strconv"
@@ -294,5 +295,29 @@ func TestDemo(t *testing.T) {
 		if p.Pressure == 200e6 && !scalar.EqualWithinAbsOrRel(p.Temperature, 252.3, 0.1, 0) {
 			t.Errorf("melting at 200 MPa: %g K", p.Temperature)
 		}
+	}
+}
+
+func TestServeRefusesOpenListenWithoutSecurity(t *testing.T) {
+	code, _, errOut := runCmd(t, "serve", "--listen", "0.0.0.0:0")
+	if code == 0 || !strings.Contains(errOut, "--insecure") || !strings.Contains(errOut, "0.0.0.0:0") {
+		t.Errorf("exit %d: %s", code, errOut)
+	}
+	code, _, errOut = runCmd(t, "serve", "--listen", "nonsense")
+	if code == 0 || !strings.Contains(errOut, "HOST:PORT") {
+		t.Errorf("exit %d: %s", code, errOut)
+	}
+}
+
+func TestUnreachableServer(t *testing.T) {
+	l, err := net.Listen("tcp", "127.0.0.1:0")
+	if err != nil {
+		t.Fatal(err)
+	}
+	addr := l.Addr().String()
+	l.Close() // nothing listens there now
+	code, _, errOut := runCmd(t, "--server", addr, "eval", "--substance", "water", "--curve", "saturation", "--temperature", "300")
+	if code == 0 || !strings.Contains(errOut, "cannot reach "+addr) {
+		t.Errorf("exit %d: %s", code, errOut)
 	}
 }
