@@ -203,9 +203,24 @@ type Table struct {
 // exceeds the tolerance is split in half in u, and the halves are tried
 // again. Every segment of a round is sampled in one call of sample.
 //
+// The nodes are interpolated where Eval will place them: the abscissae
+// handed to sample are rounded to float64, and on a steep curve that alone
+// moves y by more than the tolerance (water's ice Ih melting pressure
+// changes by about 1e-9 relative per ulp of T near 273.16 K), so the
+// coefficients are refined against the rounded positions.
+//
 // The returned table's MaxRelError is the maximum measured over all
-// check grids. When the tolerance cannot be met within opts.MaxSegments
-// the error is a *ToleranceError carrying the best table.
+// check grids; independent checks at thousands of random points on the
+// published water and carbon dioxide curves stay within it. The slope
+// dy/dx that Eval returns is the derivative of the interpolant: within
+// about 1e-8 relative of the analytic slope on the published melting and
+// sublimation branches at the default settings, but it converges slowly
+// toward an end where the source is not analytic (a Wagner equation at
+// its critical point: 5e-5 within a few mK of it). When the tolerance
+// cannot be met within opts.MaxSegments (or the segments reach the
+// resolution of float64) the error is a *ToleranceError carrying the best
+// table. Building costs (5n+1) source evaluations per segment tried, in
+// one batch per round of splitting.
 func BuildTable(sample SampleFunc, xmin, xmax float64, opts TableOptions) (*Table, error) {
 	if sample == nil {
 		return nil, fmt.Errorf("%w: table source is nil", ErrBadParam)
@@ -693,8 +708,9 @@ func (t *Table) Segments() int { return len(t.breaks) - 1 }
 // Coefficients returns the total number of stored coefficients.
 func (t *Table) Coefficients() int { return len(t.coeffs) }
 
-// Eval returns y(x) and dy/dx in raw units. It allocates nothing on
-// success. x outside the table's domain gives a *RangeError; NaN, ±Inf
+// Eval returns y(x) and dy/dx in raw units (for a P(T) table, P in Pa
+// and the slope dP/dT in Pa/K; see BuildTable on the slope's accuracy).
+// It allocates nothing on success. x outside the table's domain gives a *RangeError; NaN, ±Inf
 // (and x ≤ 0 when x is a temperature or pressure, or is log- or
 // reciprocal-transformed) give an *InputError.
 func (t *Table) Eval(x float64) (y, dydx float64, err error) {
