@@ -252,3 +252,51 @@ func TestLoadResolvesBackendPath(t *testing.T) {
 		t.Errorf("Load of a missing file: %v", err)
 	}
 }
+
+func TestErrorUnwrap(t *testing.T) {
+	t.Parallel()
+	src := edit(t, readGood(t), `a = 3.0e8, c = 2.0 }`, `a = 3.0e8, c = 0.0 }`)
+	_, err := Parse("x.toml", []byte(src))
+	if !errors.Is(err, thermo.ErrBadParam) {
+		t.Errorf("error %v does not wrap thermo.ErrBadParam", err)
+	}
+}
+
+func TestStandardBackends(t *testing.T) {
+	t.Parallel()
+	got := StandardBackends()
+	if want := []string{"solid", "vapor", "volume"}; !reflect.DeepEqual(got, want) {
+		t.Errorf("StandardBackends() = %v, want %v", got, want)
+	}
+	got[0] = "changed"
+	if !IsStandardBackend("solid") || IsStandardBackend("changed") || IsStandardBackend("") {
+		t.Error("IsStandardBackend is wrong or StandardBackends shares its slice")
+	}
+}
+
+func TestLoadFilesIncludeDefault(t *testing.T) {
+	t.Parallel()
+	dir := t.TempDir()
+	a := filepath.Join(dir, "a.toml")
+	if err := os.WriteFile(a, []byte("format = 1\ninclude_default = true\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	c, err := LoadFiles(a, goodPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	def, _ := Default()
+	if c.Lookup("water") == nil || c.Lookup("testium") == nil || len(c.Substances) != len(def.Substances)+2 {
+		t.Errorf("LoadFiles with include_default gave %d substances", len(c.Substances))
+	}
+	if _, err := LoadFiles(a, filepath.Join(dir, "absent.toml")); err == nil {
+		t.Error("a missing file was accepted")
+	}
+	bad := filepath.Join(dir, "bad.toml")
+	if err := os.WriteFile(bad, []byte("format = 3\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := LoadFiles(a, bad); err == nil || !strings.HasPrefix(err.Error(), bad+":1: format 3 is not supported") {
+		t.Errorf("error %v", err)
+	}
+}
