@@ -32,6 +32,7 @@ type AmbiguousPressureError struct {
 	Branches []string
 }
 
+// Error implements error.
 func (e *AmbiguousPressureError) Error() string {
 	return fmt.Sprintf("thermo: pressure %g Pa lies on several branches (%s); name one",
 		e.Pressure, strings.Join(e.Branches, ", "))

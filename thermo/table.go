@@ -159,6 +159,7 @@ type ToleranceError struct {
 	Best      *Table
 }
 
+// Error implements error.
 func (e *ToleranceError) Error() string {
 	return fmt.Sprintf("thermo: table tolerance %g not met: best measured relative error %g with %d segments",
 		e.Tolerance, e.Achieved, e.Segments)
