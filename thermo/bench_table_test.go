@@ -121,6 +121,7 @@ func BenchmarkLocate(b *testing.B) {
 // Metrics: direct-ns/pt, table-ns/pt and speedup (direct / table).
 func benchCompare(b *testing.B, xs []float64, direct, table func(x float64) float64) {
 	const batch = 256
+	b.ReportAllocs()
 	bestD, bestT := math.Inf(1), math.Inf(1)
 	for i := 0; b.Loop(); i++ {
 		off := (i * batch) & (len(xs) - 1)

@@ -68,8 +68,8 @@ type PhaseDiagramSpec struct {
 }
 
 // PhaseDiagram tells the phase of a state from a substance's curves. It is
-// immutable and safe for concurrent use; Locate allocates nothing on
-// success.
+// immutable and safe for concurrent use (the curves it was built from must
+// not be modified afterwards); Locate allocates nothing on success.
 //
 // # Convention
 //
