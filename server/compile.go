@@ -60,6 +60,7 @@ type branch struct {
 	vLowBE  string // backends of the volume correlations
 	vHighBE string
 	maxErr  float64 // largest measured error of pOfT and tOfP
+	buildS  float64 // seconds spent building this branch's tables (metrics)
 }
 
 func (b *branch) hasVolumes() bool { return b.vLow != nil && b.vHigh != nil }
@@ -275,6 +276,7 @@ func (s *Server) compileBranch(ctx context.Context, cv *curve, cb *catalog.Branc
 	if err != nil {
 		return nil, 0, err
 	}
+	t0 := time.Now()
 	b := &branch{cat: cb, name: cb.Name, backend: be}
 	sp := sampler{s: s, ctx: ctx, backend: be, corr: cb.Correlation, tmin: cb.Tmin, tmax: cb.Tmax}
 	pOpt, tOpt := thermo.DefaultTransforms(cv.kind)
@@ -343,6 +345,7 @@ func (s *Server) compileBranch(ctx context.Context, cv *curve, cb *catalog.Branc
 		}
 		ntables += 2
 	}
+	b.buildS = time.Since(t0).Seconds()
 	return b, ntables, nil
 }
 

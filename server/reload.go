@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"time"
 
-	phaseboundpb "github.com/phasebound/phasebound/proto/phasebound/v1"
 	"github.com/phasebound/phasebound/server/catalog"
 	"github.com/phasebound/phasebound/server/metrics"
 )
@@ -42,27 +41,23 @@ func (s *Server) ReloadFrom(ctx context.Context, load func() (*catalog.Catalog, 
 }
 
 // RecordMetrics names the served catalog's substances in m (so only they
-// get their own metric labels) and sets the measured table error of every
-// branch. Call it after New; ReloadFrom calls it after a reload.
+// get their own metric labels) and sets the build time and measured table
+// error of every branch. Call it after New; ReloadFrom calls it after a
+// reload.
 func (s *Server) RecordMetrics(ctx context.Context, m *metrics.Metrics) {
-	list, err := s.ListSubstances(ctx, &phaseboundpb.ListSubstancesRequest{})
-	if err != nil {
+	snap := s.snap.Load()
+	if snap == nil {
 		return
 	}
-	ids := make([]string, 0, len(list.GetSubstances()))
-	for _, sub := range list.GetSubstances() {
-		ids = append(ids, sub.GetId())
-		for _, c := range sub.GetCurves() {
-			kind := c.GetKind().String()
-			if k, ok := KindFromProto(c.GetKind()); ok {
-				kind = k.String()
-			}
-			for _, b := range c.GetBranches() {
-				m.ObserveTableError(sub.GetId(), kind, b.GetName(), b.GetTableMaxRelError())
+	m.ResetTables()
+	for _, id := range snap.ids {
+		for _, cv := range snap.byID[id].curves {
+			for _, b := range cv.branch {
+				m.ObserveTable(id, cv.kind.String(), b.name, b.buildS, b.maxErr)
 			}
 		}
 	}
-	m.SetSubstances(ids)
+	m.SetSubstances(snap.ids)
 }
 
 // short abbreviates a catalog version (a hex SHA-256) for messages.

@@ -181,6 +181,16 @@ provenance = { kind = "invented" }
 	if err != nil || len(resp.GetPressurePa()) != 1 || !scalar.EqualWithinAbsOrRel(resp.GetPressurePa()[0], 1000, 0, 1e-9) {
 		t.Errorf("evaluate on the reloaded catalog: %v %v, want P(200 K) = 1000 Pa", resp.GetPressurePa(), err)
 	}
+	// The metrics describe the new catalog's tables, not the old one's.
+	if v, ok := tableGauge(t, "phasebound_table_build_seconds", "reload-c"); !ok || !(v > 0) {
+		t.Errorf("table build time of reload-c = %v (present %v), want > 0", v, ok)
+	}
+	if v, ok := tableGauge(t, "phasebound_table_max_rel_error", "reload-b"); !ok || !(v > 0 && v <= MaxTableError) {
+		t.Errorf("table error of reload-b = %v (present %v), want in (0, %g]", v, ok, MaxTableError)
+	}
+	if _, ok := tableGauge(t, "phasebound_table_max_rel_error", "reload-a"); ok {
+		t.Error("the removed substance's table error is still reported")
+	}
 	if _, err := s.Evaluate(ctx, &phaseboundpb.EvaluateRequest{Substance: "reload-a", Curve: phaseboundpb.CurveKind_CURVE_KIND_SATURATION,
 		Given: phaseboundpb.Variable_VARIABLE_TEMPERATURE, Values: []float64{250}}); err == nil {
 		t.Error("the removed substance still answers")
@@ -208,4 +218,29 @@ func reloadCount(t *testing.T, result string) float64 {
 		}
 	}
 	return 0
+}
+
+// tableGauge returns a table gauge of the default metrics for the
+// saturation branch of substance.
+func tableGauge(t *testing.T, name, substance string) (float64, bool) {
+	t.Helper()
+	fams, err := metrics.Default().Registry().Gather()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, f := range fams {
+		if f.GetName() != name {
+			continue
+		}
+		for _, m := range f.GetMetric() {
+			labels := map[string]string{}
+			for _, l := range m.GetLabel() {
+				labels[l.GetName()] = l.GetValue()
+			}
+			if labels["substance"] == substance && labels["curve"] == "saturation" {
+				return m.GetGauge().GetValue(), true
+			}
+		}
+	}
+	return 0, false
 }
