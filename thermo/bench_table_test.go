@@ -172,3 +172,51 @@ func BenchmarkTableSpeedup(b *testing.B) {
 		})
 	}
 }
+
+// tstTableCurve rebuilds cv with table-backed branches (as the server
+// serves them).
+func tstTableCurve(tb testing.TB, cv *Curve) *Curve {
+	tb.Helper()
+	var brs []Branch
+	for _, b := range cv.Branches {
+		po, to := DefaultTransforms(cv.Kind)
+		pt, err := BuildPressureTable(b.Corr, po)
+		if err != nil {
+			tb.Fatal(err)
+		}
+		tp, err := BuildTemperatureTable(b.Corr, to)
+		if err != nil {
+			tb.Fatal(err)
+		}
+		c, err := NewTableCorrelation(pt, tp)
+		if err != nil {
+			tb.Fatal(err)
+		}
+		brs = append(brs, Branch{Name: b.Name, SolidForm: b.SolidForm, Corr: c})
+	}
+	out, err := NewCurve(cv.Kind, brs...)
+	if err != nil {
+		tb.Fatal(err)
+	}
+	return out
+}
+
+// BenchmarkLocateTables measures phase location for water over
+// table-backed curves (seven branches, margins along both lines).
+func BenchmarkLocateTables(b *testing.B) {
+	d, err := NewPhaseDiagram(PhaseDiagramSpec{
+		Saturation:  tstTableCurve(b, tstWaterSaturation(b)),
+		Melting:     tstTableCurve(b, tstWaterMelting(b)),
+		Sublimation: tstTableCurve(b, tstWaterSublimation(b)),
+		Triple:      []TriplePoint{{Phases: []string{"ice-Ih", "liquid", "vapor"}, StatePoint: StatePoint{273.16, 611.657}}},
+		Critical:    &StatePoint{647.096, 22.064e6},
+	})
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	for b.Loop() {
+		st, _ := d.Locate(263.15, 200e6)
+		benchSink += st.MarginT
+	}
+}
