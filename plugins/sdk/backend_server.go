@@ -228,6 +228,15 @@ func fail(resp *pluginpb.EvaluateResponse, i int, err error) {
 	resp.Failures = append(resp.Failures, pf)
 }
 
+// checkFinite guards the boundary: a family that returns NaN or ±Inf
+// without an error fails the point rather than passing on a wrong value.
+func checkFinite(value, deriv float64) error {
+	if math.IsNaN(value) || math.IsInf(value, 0) || math.IsNaN(deriv) || math.IsInf(deriv, 0) {
+		return fmt.Errorf("the correlation gave a non-finite result (value %v, derivative %v)", value, deriv)
+	}
+	return nil
+}
+
 func isRangeError(err error) bool {
 	var re *thermo.RangeError
 	return errors.As(err, &re)
@@ -245,6 +254,9 @@ func evalPressure(ctx context.Context, c thermo.Correlation, req *pluginpb.Evalu
 			if p, d, err = ext.PressureSlopeBeyond(t); err == nil {
 				resp.Extrapolated = append(resp.Extrapolated, uint32(i))
 			}
+		}
+		if err == nil {
+			err = checkFinite(p, d)
 		}
 		if err != nil {
 			fail(resp, i, err)
@@ -283,6 +295,10 @@ func evalTemperature(ctx context.Context, c thermo.Correlation, req *pluginpb.Ev
 			fail(resp, i, fmt.Errorf("slope at T = %g K: %w", t, err))
 			continue
 		}
+		if err := checkFinite(t, d); err != nil {
+			fail(resp, i, err)
+			continue
+		}
 		if beyond {
 			resp.Extrapolated = append(resp.Extrapolated, uint32(i))
 		}
@@ -311,6 +327,9 @@ func evalVolume(ctx context.Context, v thermo.VolumeCorrelation, req *pluginpb.E
 			p = pressures[i]
 		}
 		vol, d, err := v.Volume(t, p)
+		if err == nil {
+			err = checkFinite(vol, d)
+		}
 		if err != nil {
 			fail(resp, i, err)
 			continue
