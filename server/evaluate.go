@@ -7,8 +7,10 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"runtime"
 	"slices"
 	"strings"
+	"sync"
 
 	"google.golang.org/grpc/codes"
 
@@ -79,10 +81,24 @@ type query struct {
 	resp     *phaseboundpb.EvaluateResponse
 	noBranch uint32 // branch_names index used by failed points
 	// route[i] is the branch whose backend evaluates point i (exact path
-	// or extrapolation), or -1; nil when no point needs a backend.
+	// or extrapolation), or -1; nil when no point can need a backend.
 	route  []int32
 	failed int
 }
+
+// part is the state of one worker of a batch: the workers share the
+// response arrays (each writes its own index range) and keep their own
+// error lists, merged in index order afterwards.
+type part struct {
+	errs   []*phaseboundpb.PointError
+	failed int
+	routed bool
+	used   uint64 // bit set of the branches used
+}
+
+// parallelMin is the batch size from which the table pass is split over
+// several goroutines, and the smallest share of one.
+const parallelMin = 1 << 14
 
 // resolve validates the request fields that apply to the whole batch.
 func (s *Server) resolve(snap *snapshot, req *phaseboundpb.EvaluateRequest) (*query, error) {
@@ -156,21 +172,53 @@ func (s *Server) evaluate(ctx context.Context, snap *snapshot, req *phaseboundpb
 		}
 	}
 
-	used := s.tablePass(ctx, q)
+	if req.GetExact() || req.GetAllowExtrapolation() || (!q.byT && q.cv.turnsBack()) {
+		q.route = make([]int32, n)
+		for j := range q.route {
+			q.route[j] = -1
+		}
+	}
+	parts := make([]part, max(1, min(runtime.GOMAXPROCS(0), n/parallelMin)))
+	if len(parts) == 1 {
+		s.tablePass(ctx, q, 0, n, &parts[0])
+	} else {
+		var wg sync.WaitGroup
+		for k := range parts {
+			lo, hi := k*n/len(parts), (k+1)*n/len(parts)
+			wg.Add(1)
+			go func() {
+				defer wg.Done()
+				s.tablePass(ctx, q, lo, hi, &parts[k])
+			}()
+		}
+		wg.Wait()
+	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
+	}
+	var used uint64
+	routed := false
+	for k := range parts {
+		p := &parts[k]
+		used |= p.used
+		routed = routed || p.routed
+		q.failed += p.failed
+		r.Errors = append(r.Errors, p.errs...) // parts cover ascending ranges: index order holds
 	}
 	if req.GetStrict() && q.failed > 0 {
 		return nil, q.strictError()
 	}
-	if q.route != nil {
-		if err := s.backendPass(ctx, q); err != nil {
+	if routed {
+		var bp part
+		if err := s.backendPass(ctx, q, &bp); err != nil {
 			return nil, err
 		}
+		q.failed += bp.failed
+		r.Errors = append(r.Errors, bp.errs...)
+		q.sortErrors()
 		if req.GetStrict() && q.failed > 0 {
 			return nil, q.strictError()
 		}
-		q.sortErrors()
 	}
 	if !req.GetExact() {
 		for i, b := range q.cv.branch {
@@ -185,11 +233,11 @@ func (s *Server) evaluate(ctx context.Context, snap *snapshot, req *phaseboundpb
 	return r, nil
 }
 
-// tablePass evaluates every point from the tables, choosing branches and
-// refusing bad points; points that need a backend (the exact path,
+// tablePass evaluates points lo to hi-1 from the tables, choosing branches
+// and refusing bad points; points that need a backend (the exact path,
 // extrapolation, T(P) on a branch that turns back) are marked in q.route.
-// It returns a bit set of the branches used.
-func (s *Server) tablePass(ctx context.Context, q *query) (used uint64) {
+// Failures and the branches used go to p.
+func (s *Server) tablePass(ctx context.Context, q *query, lo, hi int, p *part) {
 	r := q.resp
 	vals := q.req.GetValues()
 	exact := q.req.GetExact()
@@ -199,9 +247,10 @@ func (s *Server) tablePass(ctx context.Context, q *query) (used uint64) {
 		opts.Branch = q.cv.names[q.branch]
 	}
 	curve := q.cv.thermo
-	for i, x := range vals {
+	for i := lo; i < hi; i++ {
+		x := vals[i]
 		if i&0xffff == 0xffff && ctx.Err() != nil {
-			return used
+			return
 		}
 		var pt thermo.CurvePoint
 		var err error
@@ -214,26 +263,26 @@ func (s *Server) tablePass(ctx context.Context, q *query) (used uint64) {
 			var re *thermo.RangeError
 			switch {
 			case errors.As(err, &re) && extrap:
-				q.routeTo(i, q.nearestBranch(x))
+				q.routeTo(p, i, q.nearestBranch(x))
 			case errors.Is(err, thermo.ErrNotImplemented):
 				b := q.branch
 				if b < 0 {
 					b = q.branchHolding(x)
 				}
-				q.routeTo(i, b)
+				q.routeTo(p, i, b)
 			default:
-				q.fail(i, err)
+				q.fail(p, i, err)
 			}
 			continue
 		}
-		used |= 1 << min(pt.Branch, 63)
+		p.used |= 1 << min(pt.Branch, 63)
 		r.TemperatureK[i] = pt.Temperature
 		r.PressurePa[i] = pt.Pressure
 		r.DpdtPaPerK[i] = pt.Slope
 		r.BranchIndex[i] = uint32(pt.Branch)
 		r.Status[i] = phaseboundpb.PointStatus_POINT_STATUS_OK
 		if exact {
-			q.routeTo(i, pt.Branch)
+			q.routeTo(p, i, pt.Branch)
 			continue
 		}
 		if q.latent {
@@ -247,20 +296,26 @@ func (s *Server) tablePass(ctx context.Context, q *query) (used uint64) {
 			q.setLatent(i, b, vl, vh)
 		}
 	}
-	return used
 }
 
 func clamp(x, lo, hi float64) float64 { return math.Min(math.Max(x, lo), hi) }
 
-// routeTo sends point i to branch b's backend.
-func (q *query) routeTo(i, b int) {
-	if q.route == nil {
-		q.route = make([]int32, len(q.req.GetValues()))
-		for j := range q.route {
-			q.route[j] = -1
+// routeTo sends point i to branch b's backend; evaluate allocated
+// q.route for every request that can route.
+func (q *query) routeTo(p *part, i, b int) {
+	q.route[i] = int32(b)
+	p.routed = true
+}
+
+// turnsBack reports whether a branch has no T(P) table (its P(T) is not
+// monotonic), so that T(P) there goes to the backend.
+func (cv *curve) turnsBack() bool {
+	for _, b := range cv.branch {
+		if b.tOfP == nil {
+			return true
 		}
 	}
-	q.route[i] = int32(b)
+	return false
 }
 
 // nearestBranch returns the branch to extrapolate with: the one named, or
@@ -293,7 +348,7 @@ func (q *query) branchHolding(p float64) int {
 }
 
 // fail marks point i failed with the status err calls for.
-func (q *query) fail(i int, err error) {
+func (q *query) fail(p *part, i int, err error) {
 	st := phaseboundpb.PointStatus_POINT_STATUS_INVALID
 	pe := &phaseboundpb.PointError{Index: uint32(i), Message: strings.TrimPrefix(err.Error(), "thermo: ")}
 	var re *thermo.RangeError
@@ -304,10 +359,10 @@ func (q *query) fail(i int, err error) {
 	case errors.Is(err, thermo.ErrAmbiguousBranch):
 		st = phaseboundpb.PointStatus_POINT_STATUS_AMBIGUOUS_BRANCH
 	}
-	q.failStatus(i, st, pe)
+	q.failStatus(p, i, st, pe)
 }
 
-func (q *query) failStatus(i int, st phaseboundpb.PointStatus, pe *phaseboundpb.PointError) {
+func (q *query) failStatus(p *part, i int, st phaseboundpb.PointStatus, pe *phaseboundpb.PointError) {
 	r := q.resp
 	nan := math.NaN()
 	pe.Status = st
@@ -324,8 +379,8 @@ func (q *query) failStatus(i int, st phaseboundpb.PointStatus, pe *phaseboundpb.
 		r.VolumeLowTPhaseM3PerMol[i], r.VolumeHighTPhaseM3PerMol[i] = nan, nan
 		r.LatentHeatSource[i] = phaseboundpb.LatentHeatSource_LATENT_HEAT_SOURCE_POINT_FAILED
 	}
-	r.Errors = append(r.Errors, pe)
-	q.failed++
+	p.errs = append(p.errs, pe)
+	p.failed++
 }
 
 // setLatent fills the latent heat of point i from the phase volumes (NaN
@@ -384,7 +439,7 @@ func (q *query) sortErrors() {
 
 // backendPass evaluates the routed points through their branches'
 // backends, a batch per branch.
-func (s *Server) backendPass(ctx context.Context, q *query) error {
+func (s *Server) backendPass(ctx context.Context, q *query, p *part) error {
 	r := q.resp
 	vals := q.req.GetValues()
 	extrap := q.req.GetAllowExtrapolation()
@@ -423,7 +478,7 @@ func (s *Server) backendPass(ctx context.Context, q *query) error {
 			var ok []int // indices into part that succeeded
 			for k, i := range part {
 				if f, bad := failed[k]; bad {
-					q.failBackend(i, f)
+					q.failBackend(p, i, f)
 					continue
 				}
 				if q.byT {
@@ -494,12 +549,12 @@ func (s *Server) backendLatent(ctx context.Context, q *query, b *branch, part, o
 }
 
 // failBackend marks point i failed as the backend reported.
-func (q *query) failBackend(i int, f sdk.Failure) {
+func (q *query) failBackend(p *part, i int, f sdk.Failure) {
 	pe := &phaseboundpb.PointError{Index: uint32(i), Message: f.Message}
 	st := phaseboundpb.PointStatus_POINT_STATUS_INVALID
 	if f.Kind == sdk.FailOutOfRange {
 		st = phaseboundpb.PointStatus_POINT_STATUS_OUT_OF_RANGE
 		pe.ValidMin, pe.ValidMax = f.Min, f.Max
 	}
-	q.failStatus(i, st, pe)
+	q.failStatus(p, i, st, pe)
 }

@@ -327,3 +327,43 @@ func TestEvaluateLatentHeat(t *testing.T) {
 		t.Errorf("melting: source %v, %g J/mol", resp.LatentHeatSource[0], resp.LatentHeatJPerMol[0])
 	}
 }
+
+// TestEvaluateLargeBatchInParallel covers the batch size at which the table
+// pass splits over goroutines: statuses, values and error order must be as
+// for small batches.
+func TestEvaluateLargeBatchInParallel(t *testing.T) {
+	_, c, _ := testServer(t)
+	const n = 5 * parallelMin
+	vals := make([]float64, n)
+	for i := range vals {
+		vals[i] = 280 + 360*float64(i)/n
+	}
+	bad := []int{0, parallelMin - 1, parallelMin, 3*parallelMin + 7, n - 1}
+	for _, i := range bad {
+		vals[i] = -1
+	}
+	for _, exact := range []bool{false, true} {
+		resp, err := c.Evaluate(context.Background(), &pb.EvaluateRequest{
+			Substance: "water", Curve: sat, Given: byT, Values: vals, Exact: exact, IncludeLatentHeat: true,
+		})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(resp.Errors) != len(bad) {
+			t.Fatalf("exact %v: %d errors, want %d", exact, len(resp.Errors), len(bad))
+		}
+		for k, e := range resp.Errors {
+			if int(e.Index) != bad[k] || e.Status != pb.PointStatus_POINT_STATUS_INVALID {
+				t.Errorf("exact %v: error %d = %v, want index %d", exact, k, e, bad[k])
+			}
+		}
+		for i := 1; i < n-1; i++ {
+			if vals[i] < 0 {
+				continue
+			}
+			if resp.Status[i] != pb.PointStatus_POINT_STATUS_OK || !(resp.PressurePa[i] > resp.PressurePa[i-1] || vals[i-1] < 0) {
+				t.Fatalf("exact %v: point %d (%g K): %v %g", exact, i, vals[i], resp.Status[i], resp.PressurePa[i])
+			}
+		}
+	}
+}
