@@ -106,7 +106,15 @@ func readDataCSV(path string) ([]dataPoint, []byte, error) {
 	if err != nil {
 		return nil, nil, fmt.Errorf("data: %w", err)
 	}
-	name := filepath.Base(path)
+	pts, err := parseDataCSV(filepath.Base(path), raw)
+	if err != nil {
+		return nil, nil, err
+	}
+	return pts, raw, nil
+}
+
+// parseDataCSV parses the bytes of a measurement file called name.
+func parseDataCSV(name string, raw []byte) ([]dataPoint, error) {
 	r := csv.NewReader(bytes.NewReader(raw))
 	r.FieldsPerRecord = -1
 	r.TrimLeadingSpace = true
@@ -118,10 +126,10 @@ func readDataCSV(path string) ([]dataPoint, []byte, error) {
 		if err == io.EOF {
 			break
 		}
-		line, _ := r.FieldPos(0)
 		if err != nil {
-			return nil, nil, fmt.Errorf("data %s: %w", name, err)
+			return nil, fmt.Errorf("data %s: %w", name, err) // a *csv.ParseError names the line
 		}
+		line, _ := r.FieldPos(0)
 		if len(rec) == 1 && strings.TrimSpace(rec[0]) == "" {
 			continue
 		}
@@ -137,7 +145,7 @@ func readDataCSV(path string) ([]dataPoint, []byte, error) {
 				}
 			}
 			if ti < 0 || pi < 0 {
-				return nil, nil, fmt.Errorf("data %s line %d: the header must name the columns temperature_k and pressure_pa (and optionally weight), got %q",
+				return nil, fmt.Errorf("data %s line %d: the header must name the columns temperature_k and pressure_pa (and optionally weight), got %q",
 					name, line, strings.Join(rec, ","))
 			}
 			continue
@@ -165,33 +173,33 @@ func readDataCSV(path string) ([]dataPoint, []byte, error) {
 		var q dataPoint
 		q.line = line
 		if q.t, err = cell(ti, "temperature_k", true); err != nil {
-			return nil, nil, err
+			return nil, err
 		}
 		if q.p, err = cell(pi, "pressure_pa", true); err != nil {
-			return nil, nil, err
+			return nil, err
 		}
 		if wi >= 0 {
 			if q.w, err = cell(wi, "weight", false); err != nil {
-				return nil, nil, err
+				return nil, err
 			}
 		}
 		switch {
 		case q.t <= 0:
-			return nil, nil, fmt.Errorf("data %s line %d: temperature_k %g must be > 0 K", name, line, q.t)
+			return nil, fmt.Errorf("data %s line %d: temperature_k %g must be > 0 K", name, line, q.t)
 		case q.p <= 0:
-			return nil, nil, fmt.Errorf("data %s line %d: pressure_pa %g must be > 0 Pa", name, line, q.p)
+			return nil, fmt.Errorf("data %s line %d: pressure_pa %g must be > 0 Pa", name, line, q.p)
 		case q.w < 0:
-			return nil, nil, fmt.Errorf("data %s line %d: weight %g must be ≥ 0", name, line, q.w)
+			return nil, fmt.Errorf("data %s line %d: weight %g must be ≥ 0", name, line, q.w)
 		}
 		pts = append(pts, q)
 	}
 	if ti < 0 {
-		return nil, nil, fmt.Errorf("data %s: empty file; want a header temperature_k,pressure_pa[,weight] and data rows", name)
+		return nil, fmt.Errorf("data %s: empty file; want a header temperature_k,pressure_pa[,weight] and data rows", name)
 	}
 	if len(pts) == 0 {
-		return nil, nil, fmt.Errorf("data %s: no data rows after the header", name)
+		return nil, fmt.Errorf("data %s: no data rows after the header", name)
 	}
-	return pts, raw, nil
+	return pts, nil
 }
 
 // parseFixed reads name=value[,name=v1;v2;...].

@@ -246,3 +246,37 @@ func TestFitNeedsBranchOnMultiBranchCurve(t *testing.T) {
 		t.Fatalf("exit %d, stderr %q: want the branches named", code, errOut)
 	}
 }
+
+// FuzzParseDataCSV: any bytes give points or an error naming the file,
+// never a panic, and every point returned is physical.
+func FuzzParseDataCSV(f *testing.F) {
+	for _, s := range []string{
+		"temperature_k,pressure_pa\n250,100\n260,200\n",
+		"temperature_k,pressure_pa,weight\n250,100,1\n# c\n\n260,200,0.5\n",
+		"pressure_pa,temperature_k\n1e5,373.124\n",
+		"temperature_k,pressure_pa\n25degC,1bar\n",
+		"temperature_k,pressure_pa\nNaN,1\n",
+		"temperature_k\n1\n",
+		"\"temperature_k\",\"pressure_pa\"\n\"1\",\"2\n",
+		"",
+	} {
+		f.Add([]byte(s))
+	}
+	f.Fuzz(func(t *testing.T, raw []byte) {
+		pts, err := parseDataCSV("fuzz.csv", raw)
+		if err != nil {
+			if !strings.Contains(err.Error(), "fuzz.csv") {
+				t.Fatalf("error does not name the file: %v", err)
+			}
+			return
+		}
+		if len(pts) == 0 {
+			t.Fatal("no points and no error")
+		}
+		for _, q := range pts {
+			if !(q.t > 0) || !(q.p > 0) || q.w < 0 || math.IsInf(q.t, 0) || math.IsInf(q.p, 0) || math.IsNaN(q.w) || q.line < 2 {
+				t.Fatalf("unphysical point accepted: %+v", q)
+			}
+		}
+	})
+}
