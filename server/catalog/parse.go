@@ -12,6 +12,7 @@ import (
 	"regexp"
 	"slices"
 	"sort"
+	"strconv"
 	"strings"
 
 	"github.com/BurntSushi/toml"
@@ -222,9 +223,9 @@ func parseFile(name string, data []byte, dir string) (*parsedFile, error) {
 	if _, err := toml.NewDecoder(bytes.NewReader(data)).Decode(&raw); err != nil {
 		var pe toml.ParseError
 		if errors.As(err, &pe) {
-			return nil, &Error{File: name, Line: pe.Position.Line, Err: fmt.Errorf("invalid TOML: %s", pe.Message)}
+			return nil, &Error{File: name, Line: pe.Position.Line, Err: fmt.Errorf("invalid TOML: %s", escapeControl(pe.Message))}
 		}
-		return nil, &Error{File: name, Err: fmt.Errorf("invalid TOML: %w", err)}
+		return nil, &Error{File: name, Err: fmt.Errorf("invalid TOML: %s", escapeControl(err.Error()))}
 	}
 	d := &decoder{file: name, lines: indexLines(string(data))}
 	root := d.root(raw)
@@ -794,3 +795,23 @@ func pressureAt(c thermo.Correlation, t float64) (p float64, err error) {
 	}()
 	return c.Pressure(t)
 }
+
+// escapeControl writes control characters as Go escapes, so a message that
+// quotes the input stays on one line.
+func escapeControl(s string) string {
+	if !strings.ContainsFunc(s, isControl) {
+		return s
+	}
+	var b strings.Builder
+	for _, r := range s {
+		if isControl(r) {
+			q := strconv.QuoteRune(r)
+			b.WriteString(q[1 : len(q)-1])
+			continue
+		}
+		b.WriteRune(r)
+	}
+	return b.String()
+}
+
+func isControl(r rune) bool { return r < 0x20 || r == 0x7f }
