@@ -247,3 +247,17 @@ func TestDefaultCatalogClean(t *testing.T) {
 		t.Logf("%s: %d checks, %d findings", s.ID, r.Checks, len(r.Findings))
 	}
 }
+
+var benchSink *Report
+
+func BenchmarkCheckGood(b *testing.B) {
+	c := loadTestCatalog(b, "good.toml")
+	b.ReportAllocs()
+	for b.Loop() {
+		r, err := Check(c, "testium", Tolerances{})
+		if err != nil {
+			b.Fatal(err)
+		}
+		benchSink = r
+	}
+}
