@@ -59,8 +59,11 @@ type branch struct {
 	vHigh   *thermo.Table
 	vLowBE  string // backends of the volume correlations
 	vHighBE string
-	maxErr  float64 // largest measured error of pOfT and tOfP
-	buildS  float64 // seconds spent building this branch's tables (metrics)
+	// vTmin and vTmax bound the volume tables (a hair inside the branch
+	// range when a volume is singular at an end); lookups are clamped.
+	vTmin, vTmax float64
+	maxErr       float64 // largest measured error of pOfT and tOfP
+	buildS       float64 // seconds spent building this branch's tables (metrics)
 }
 
 func (b *branch) hasVolumes() bool { return b.vLow != nil && b.vHigh != nil }
@@ -334,16 +337,24 @@ func (s *Server) compileBranch(ctx context.Context, cv *curve, cb *catalog.Branc
 	}
 
 	if cb.VolumeLow != nil && cb.VolumeHigh != nil {
-		vapourSide := cv.vapour
-		b.vLow, b.vLowBE, err = s.volumeTable(ctx, sp, *cb.VolumeLow, false, third, "low-T phase volume")
-		if err != nil {
-			return nil, 0, err
+		vl, vlBE, errL := s.volumeTable(ctx, sp, *cb.VolumeLow, false, third, "low-T phase volume")
+		vh, vhBE, errH := s.volumeTable(ctx, sp, *cb.VolumeHigh, cv.vapour, third, "high-T phase volume")
+		switch {
+		case ctx.Err() != nil:
+			return nil, 0, ctx.Err()
+		case errL != nil || errH != nil:
+			// The curve itself is fine: serve it without volumes (latent
+			// heats fall back to the ideal-gas estimate on vapour curves,
+			// or none), and say why.
+			s.log.Warn("phase volumes not served: their tables could not be built; latent heats fall back",
+				"curve", cv.kind.String(), "branch", cb.Name, "error", errors.Join(errL, errH).Error())
+		default:
+			b.vLow, b.vLowBE, b.vHigh, b.vHighBE = vl, vlBE, vh, vhBE
+			lo1, hi1 := vl.Domain()
+			lo2, hi2 := vh.Domain()
+			b.vTmin, b.vTmax = math.Max(lo1, lo2), math.Min(hi1, hi2)
+			ntables += 2
 		}
-		b.vHigh, b.vHighBE, err = s.volumeTable(ctx, sp, *cb.VolumeHigh, vapourSide, third, "high-T phase volume")
-		if err != nil {
-			return nil, 0, err
-		}
-		ntables += 2
 	}
 	b.buildS = time.Since(t0).Seconds()
 	return b, ntables, nil
@@ -372,7 +383,17 @@ func (s *Server) volumeTable(ctx context.Context, curveSampler sampler, vc catal
 	if vapour {
 		o.XTransform, o.YTransform = thermo.TransformReciprocal, thermo.TransformLog
 	}
-	t, err := s.buildTable(f, curveSampler.tmin, curveSampler.tmax, o, what, true)
+	lo, hi := curveSampler.tmin, curveSampler.tmax
+	t, err := s.buildTable(f, lo, hi, o, what, true)
+	var te *thermo.ToleranceError
+	if err != nil && !errors.As(err, &te) && ctx.Err() == nil {
+		// A volume with an infinite slope at an end of the range (a
+		// saturated density at the critical point) may fail to evaluate
+		// exactly there: tabulate up to a hair inside, where lookups are
+		// clamped.
+		eps := 1e-12 * (hi - lo)
+		t, err = s.buildTable(f, lo+eps, hi-eps, o, what, true)
+	}
 	return t, be, err
 }
 

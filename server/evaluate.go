@@ -289,7 +289,7 @@ func (s *Server) tablePass(ctx context.Context, q *query, lo, hi int, p *part) {
 			b := q.cv.branch[pt.Branch]
 			vl, vh := math.NaN(), math.NaN()
 			if b.hasVolumes() {
-				t := clamp(pt.Temperature, b.rng.Tmin, b.rng.Tmax)
+				t := clamp(pt.Temperature, b.vTmin, b.vTmax)
 				vl, _ = b.vLow.Value(t)
 				vh, _ = b.vHigh.Value(t)
 			}
