@@ -465,3 +465,104 @@ func TestHostRelaysBackendLogs(t *testing.T) {
 		t.Error("the backend's error log line did not reach the host logger")
 	}
 }
+
+// TestHostNeverReturnsWrongValues: callers hammering a backend that is
+// killed twice get, for every call, either exactly the right values or an
+// ErrBackendUnavailable error.
+func TestHostNeverReturnsWrongValues(t *testing.T) {
+	h := newTestHost(t, HostConfig{MinBackoff: 10 * time.Millisecond})
+	ctx := context.Background()
+	if err := h.Start(ctx, BackendSpec{Name: "hammered"}); err != nil {
+		t.Fatal(err)
+	}
+	const n = 20_000
+	ts := make([]float64, n)
+	for i := range ts {
+		ts[i] = 200 + 100*float64(i)/(n-1)
+	}
+	req := EvalRequest{Family: "test-line", Params: lineParams, Tmin: 200, Tmax: 300, Op: OpPressure, Values: ts}
+
+	var ok, unavailable atomic.Int64
+	stop := make(chan struct{})
+	errs := make(chan error, 4)
+	var wg sync.WaitGroup
+	for range 4 {
+		wg.Go(func() {
+			for calls := 0; calls < 10_000; calls++ { // bounded even if stop never comes
+				select {
+				case <-stop:
+					return
+				default:
+				}
+				res, err := h.Evaluate(ctx, "hammered", req)
+				if errors.Is(err, ErrBackendUnavailable) {
+					unavailable.Add(1)
+					time.Sleep(5 * time.Millisecond)
+					continue
+				}
+				if err != nil {
+					errs <- err
+					return
+				}
+				for i, p := range res.Results {
+					if p != 1000+50*ts[i] || res.Derivatives[i] != 50 {
+						errs <- errors.New("wrong value " + strconv.FormatFloat(p, 'g', -1, 64) + " at point " + strconv.Itoa(i))
+						return
+					}
+				}
+				ok.Add(1)
+			}
+		})
+	}
+	for kill := 1; kill <= 2; kill++ {
+		time.Sleep(150 * time.Millisecond)
+		if err := syscall.Kill(currentPID(t, h, "hammered"), syscall.SIGKILL); err != nil {
+			t.Fatal(err)
+		}
+		if !waitFor(60*time.Second, func() bool { return h.Restarts() >= uint64(kill) }) {
+			t.Fatalf("not restarted after kill %d", kill)
+		}
+	}
+	time.Sleep(150 * time.Millisecond)
+	close(stop)
+	wg.Wait()
+	close(errs)
+	for err := range errs {
+		t.Error(err)
+	}
+	if ok.Load() == 0 {
+		t.Error("no call succeeded")
+	}
+	t.Logf("%d calls answered, %d refused as unavailable, %d restarts", ok.Load(), unavailable.Load(), h.Restarts())
+}
+
+func TestHostStartReplacesBackend(t *testing.T) {
+	exe, err := os.Executable()
+	if err != nil {
+		t.Fatal(err)
+	}
+	sum, err := FileSHA256(exe)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Setenv(backendEnv, "swapped")
+	h := newTestHost(t, HostConfig{})
+	ctx := context.Background()
+	if err := h.Start(ctx, BackendSpec{Name: "swapped"}); err != nil {
+		t.Fatal(err)
+	}
+	oldPID := currentPID(t, h, "swapped")
+	// Same name, now as a pinned executable: the new process replaces the old.
+	if err := h.Start(ctx, BackendSpec{Name: "swapped", Path: exe, SHA256: sum}); err != nil {
+		t.Fatal(err)
+	}
+	if pid := currentPID(t, h, "swapped"); pid == oldPID {
+		t.Fatal("backend not replaced")
+	}
+	if !processGone(oldPID) {
+		t.Errorf("replaced backend %d still runs", oldPID)
+	}
+	if res, err := h.Evaluate(ctx, "swapped", EvalRequest{Family: "test-line", Params: lineParams, Tmin: 200, Tmax: 300, Op: OpPressure, Values: []float64{250}}); err != nil || res.Results[0] != 13500 {
+		t.Fatalf("after replacement: %+v, %v", res, err)
+	}
+}
