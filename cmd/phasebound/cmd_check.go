@@ -37,6 +37,12 @@ correlations and phase volumes; the checks are:
   latent-heat-vs-reference   the served latent heat T·ΔV·dP/dT against ΔH
   triple-point-enthalpy-sum  ΔH_sub = ΔH_fus + ΔH_vap at a triple point
 
+The tolerances are --tol-k (temperature gaps, default 0.01 K), --tol-rel
+(relative pressure gaps, default 0.001) and --tol-dh (Clapeyron slope and
+latent heat against reference values, default 0.03); a point misses a curve
+only when both its pressure gap and its equivalent temperature gap exceed
+theirs, since a steep melting curve moves megapascals in a millikelvin.
+
 Reference states (ΔH, ΔV at a temperature) come from the catalog's
 "reference" fields, or for one curve from --curve/--branch with --delta-h,
 --delta-v and --at.
@@ -58,6 +64,7 @@ type checkFlags struct {
 	substance, curve, branch string
 	deltaH, deltaV           float64
 	at                       string
+	tolK, tolRel, tolDH      float64
 }
 
 func newCheckCmd(a *app) *cobra.Command {
@@ -76,6 +83,10 @@ func newCheckCmd(a *app) *cobra.Command {
 	fl.Float64Var(&f.deltaH, "delta-h", 0, "reference enthalpy of transition, J/mol (high-T phase minus low-T phase)")
 	fl.Float64Var(&f.deltaV, "delta-v", 0, "reference volume of transition, m³/mol (high-T phase minus low-T phase)")
 	fl.StringVar(&f.at, "at", "", "temperature of the reference state (e.g. 273.16, 0degC)")
+	d := audit.DefaultTolerances()
+	fl.Float64Var(&f.tolK, "tol-k", d.TripleTemperatureK, "temperature gaps allowed at triple points, the critical point and branch junctions, K")
+	fl.Float64Var(&f.tolRel, "tol-rel", d.TriplePressureRel, "relative pressure gaps allowed at triple points, the critical point and branch junctions")
+	fl.Float64Var(&f.tolDH, "tol-dh", d.LatentHeatRel, "relative tolerance of the Clapeyron slope and the latent heat against reference values")
 	return cmd
 }
 
@@ -92,7 +103,20 @@ func (a *app) runCheck(f *checkFlags) error {
 			return fmt.Errorf("check: %w", err)
 		}
 	}
-	rep, err := audit.Check(cat, f.substance, audit.Tolerances{})
+	for _, v := range []struct {
+		name string
+		v    float64
+	}{{"--tol-k", f.tolK}, {"--tol-rel", f.tolRel}, {"--tol-dh", f.tolDH}} {
+		if !(v.v > 0) || math.IsInf(v.v, 0) {
+			return fmt.Errorf("check: %s %v must be a positive number", v.name, v.v)
+		}
+	}
+	tol := audit.Tolerances{
+		TripleTemperatureK: f.tolK, CriticalTemperatureK: f.tolK, RangeGapK: f.tolK,
+		TriplePressureRel: f.tolRel, CriticalPressureRel: f.tolRel,
+		ClapeyronSlopeRel: f.tolDH, LatentHeatRel: f.tolDH,
+	}
+	rep, err := audit.Check(cat, f.substance, tol)
 	if err != nil {
 		return fmt.Errorf("check: %w", err)
 	}

@@ -94,6 +94,11 @@ func TestCheckText(t *testing.T) {
 	if code != 0 || !strings.HasPrefix(out, "testium: consistent") {
 		t.Errorf("exit %d, text:\n%s", code, out)
 	}
+	// The shifted branch misses by about 1.2 K: a 2 K tolerance passes it.
+	code, out, _ = runCmd(t, "--catalog", auditCatalog("shifted-branch.toml"), "check", "--substance", "testium", "--tol-k", "2")
+	if code != 0 || !strings.HasPrefix(out, "testium: consistent") {
+		t.Errorf("--tol-k 2: exit %d, text:\n%s", code, out)
+	}
 }
 
 // A reference state given by flags is checked like a catalog one.
@@ -139,6 +144,7 @@ func TestCheckBadInput(t *testing.T) {
 		{[]string{"check", "--substance", "testium", "--curve", "boiling", "--at", "200", "--delta-h", "1"}, "valid: saturation"},
 		{[]string{"check", "--substance", "testium", "--curve", "transition", "--at", "200", "--delta-h", "1"}, "has no transition curve"},
 		{[]string{"--catalog", "no-such-file.toml", "check", "--substance", "x"}, "no-such-file.toml"},
+		{[]string{"check", "--substance", "testium", "--tol-k", "0"}, "--tol-k 0 must be a positive number"},
 	}
 	for _, tc := range tests {
 		args := tc.args
