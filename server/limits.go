@@ -176,7 +176,7 @@ func (l *Limiter) acquire(ctx context.Context) (func(), error) {
 	if n := l.waiting.Add(1); n > int64(l.cfg.MaxQueue) {
 		l.waiting.Add(-1)
 		return nil, status.Errorf(codes.ResourceExhausted,
-			"server busy: %d calls in progress and %d waiting, the limit (--max-concurrency %d); retry later or on another replica",
+			"server busy: all %d call slots taken and %d callers waiting (--max-concurrency %d); retry later or on another replica",
 			l.cfg.MaxConcurrency, l.cfg.MaxQueue, l.cfg.MaxConcurrency)
 	}
 	defer l.waiting.Add(-1)
@@ -191,7 +191,7 @@ func (l *Limiter) acquire(ctx context.Context) (func(), error) {
 		return release, nil
 	case <-t.C:
 		return nil, status.Errorf(codes.ResourceExhausted,
-			"server busy: no free slot within %v (%d calls in progress, --max-concurrency %d); retry later or on another replica",
+			"server busy: no free call slot within %v (all %d taken, --max-concurrency %d); retry later or on another replica",
 			wait.Round(time.Millisecond), l.cfg.MaxConcurrency, l.cfg.MaxConcurrency)
 	case <-ctx.Done():
 		if ctx.Err() == context.DeadlineExceeded {
