@@ -395,7 +395,7 @@ func (q *query) setLatent(i int, b *branch, vl, vh float64) {
 		// Clapeyron equation: ΔH = T·(v_high − v_low)·dP/dT.
 		h = t * (vh - vl) * d
 		src = phaseboundpb.LatentHeatSource_LATENT_HEAT_SOURCE_CLAPEYRON
-	case b.hasVolumes() || b.cat.VolumeLow != nil && b.cat.VolumeHigh != nil:
+	case b.hasVolumes():
 		// The curve has phase volumes but they could not be evaluated
 		// here (e.g. exactly at a critical point): no estimate that
 		// would contradict them.
