@@ -167,3 +167,18 @@ func TestLimitsDefaults(t *testing.T) {
 		t.Errorf("negative queue: %+v, want MaxQueue 0 and a positive concurrency", c)
 	}
 }
+
+func TestLimitsMessageSize(t *testing.T) {
+	t.Parallel()
+	// 1 KiB messages: 200 points (≈1.6 KiB on the wire) are refused by gRPC
+	// itself before any handler or allocation for the payload.
+	addr := startSecServer(t, &secService{}, LimitOptions(LimitsConfig{MaxMessageBytes: 1024})...)
+	client := phaseboundpb.NewBoundaryServiceClient(secDial(t, addr, grpc.WithTransportCredentials(insecure.NewCredentials())))
+	if _, err := client.Evaluate(context.Background(), &phaseboundpb.EvaluateRequest{Values: make([]float64, 100)}); err != nil {
+		t.Errorf("800-byte request: %v", err)
+	}
+	_, err := client.Evaluate(context.Background(), &phaseboundpb.EvaluateRequest{Values: make([]float64, 200)})
+	if st := status.Convert(err); st.Code() != codes.ResourceExhausted || !strings.Contains(st.Message(), "larger than max") {
+		t.Errorf("1.6 KiB request over a 1 KiB limit: %v, want ResourceExhausted", err)
+	}
+}
