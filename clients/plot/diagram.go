@@ -546,13 +546,13 @@ func (a *annotations) Plot(c draw.Canvas, p *gp.Plot) {
 		}
 		label := ""
 		if hasVapourPhase(tp.GetPhases()) {
-			label = fmt.Sprintf("triple point\n%s K, %s", trimNumber(t), FormatPressure(pr))
+			label = fmt.Sprintf("triple point\n%s K, %s", formatKelvin(t), FormatPressure(pr))
 		}
 		markers = append(markers, marker{vg.Point{X: tx(t), Y: ty(math.Log10(pr))}, label, tripleGlyph})
 	}
 	if cp := sub.GetCriticalPoint(); cp != nil && in(cp.GetTemperatureK(), cp.GetPressurePa()) {
 		markers = append(markers, marker{vg.Point{X: tx(cp.GetTemperatureK()), Y: ty(math.Log10(cp.GetPressurePa()))},
-			fmt.Sprintf("critical point\n%s K, %s", trimNumber(cp.GetTemperatureK()), FormatPressure(cp.GetPressurePa())),
+			fmt.Sprintf("critical point\n%s K, %s", formatKelvin(cp.GetTemperatureK()), FormatPressure(cp.GetPressurePa())),
 			criticalGlyph})
 	}
 	for _, m := range markers {

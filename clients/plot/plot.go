@@ -304,3 +304,7 @@ func (linearTicks) Ticks(min, max float64) []gp.Tick {
 	}
 	return ticks
 }
+
+// formatKelvin writes a temperature with up to five significant digits
+// ("273.16", "647.1").
+func formatKelvin(t float64) string { return fmt.Sprintf("%.5g", t) }
