@@ -4,6 +4,7 @@ import (
 	"context"
 	"crypto/tls"
 	"crypto/x509"
+	"net"
 	"os"
 	"strings"
 	"testing"
@@ -259,5 +260,32 @@ func TestNoSecurityIsPlain(t *testing.T) {
 	}
 	if sec.TLS() || sec.TokenRequired() || len(sec.ServerOptions()) != 0 {
 		t.Errorf("zero config: TLS %v, token %v, %d options; want none", sec.TLS(), sec.TokenRequired(), len(sec.ServerOptions()))
+	}
+}
+
+// TestRegisterHealth serves only the health service of a real Server on a
+// second, plain-text listener (what --health-listen does) and checks that
+// it reports the server's own status.
+func TestRegisterHealth(t *testing.T) {
+	s, _, _ := testServer(t)
+	lis, err := net.Listen("tcp", "127.0.0.1:0")
+	if err != nil {
+		t.Fatal(err)
+	}
+	g := grpc.NewServer()
+	s.RegisterHealth(g)
+	go g.Serve(lis)
+	defer g.Stop()
+	cc := secDial(t, lis.Addr().String(), grpc.WithTransportCredentials(insecure.NewCredentials()))
+	for _, svc := range []string{"", ServiceName} {
+		resp, err := healthpb.NewHealthClient(cc).Check(context.Background(), &healthpb.HealthCheckRequest{Service: svc})
+		if err != nil || resp.GetStatus() != healthpb.HealthCheckResponse_SERVING {
+			t.Errorf("health of %q on the health-only listener: %v %v, want SERVING", svc, resp.GetStatus(), err)
+		}
+	}
+	// Nothing else is served there.
+	_, err = phaseboundpb.NewBoundaryServiceClient(cc).ListSubstances(context.Background(), &phaseboundpb.ListSubstancesRequest{})
+	if status.Code(err) != codes.Unimplemented {
+		t.Errorf("ListSubstances on the health-only listener: %v, want Unimplemented", err)
 	}
 }
