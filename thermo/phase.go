@@ -325,11 +325,24 @@ func (d *PhaseDiagram) outside(t, p float64, format string, a ...any) error {
 func (d *PhaseDiagram) coverage(t, p float64, curve string, err error) error {
 	var re *RangeError
 	if errors.As(err, &re) {
-		return fmt.Errorf("%w: (%g K, %g Pa) needs the %s curve at %s %g %s, outside its range [%g, %g] %s; the phase would be a guess: %w",
-			ErrOutsideCoverage, t, p, curve, re.Quantity, re.Value, re.Unit, re.Min, re.Max, re.Unit, err)
+		return &phCoverageError{
+			msg: fmt.Sprintf("%v: (%g K, %g Pa) needs the %s curve at %s %g %s, outside its range [%g, %g] %s; the phase would be a guess",
+				ErrOutsideCoverage, t, p, curve, re.Quantity, re.Value, re.Unit, re.Min, re.Max, re.Unit),
+			cause: err,
+		}
 	}
 	return err
 }
+
+// phCoverageError is an ErrOutsideCoverage error that also carries the
+// curve's *RangeError (errors.As finds it) without repeating its text.
+type phCoverageError struct {
+	msg   string
+	cause error
+}
+
+func (e *phCoverageError) Error() string   { return e.msg }
+func (e *phCoverageError) Unwrap() []error { return []error{ErrOutsideCoverage, e.cause} }
 
 // margins fills the distances to the nearest boundaries along the isobar
 // and the isotherm through (t, p).
