@@ -335,6 +335,9 @@ func (d *decoder) substance(n *node, c *Catalog) (*Substance, []backendRef, erro
 	if s.Name, err = n.str("name", false); err != nil {
 		return nil, nil, err
 	}
+	if strings.ContainsFunc(s.Name, isControl) {
+		return nil, nil, n.errf("name", "name %q must be one line of text", s.Name)
+	}
 	if s.MolarMass, err = n.positive("molar_mass", "kg/mol"); err != nil {
 		return nil, nil, err
 	}
@@ -410,6 +413,9 @@ func (n *node) triple() (TriplePoint, error) {
 	for i, ph := range phases {
 		if strings.TrimSpace(ph) == "" {
 			return tp, n.errf("phases", "phases[%d] is empty", i)
+		}
+		if strings.ContainsFunc(ph, isControl) {
+			return tp, n.errf("phases", "phases[%d] %q must be one line of text", i, ph)
 		}
 		if slices.Contains(phases[:i], ph) {
 			return tp, n.errf("phases", "phase %q is named twice", ph)
@@ -544,6 +550,9 @@ func (d *decoder) branch(n *node, s *Substance, cv *Curve, count int, c *Catalog
 	}
 	if b.SolidForm, err = n.str("solid_form", false); err != nil {
 		return nil, nil, err
+	}
+	if strings.ContainsFunc(b.SolidForm, isControl) {
+		return nil, nil, n.errf("solid_form", "solid_form %q must be one line of text", b.SolidForm)
 	}
 	if b.Uncertainty, err = n.str("uncertainty", false); err != nil {
 		return nil, nil, err

@@ -17,7 +17,8 @@ import (
 // --catalog flag). Parse(Write(c)) gives back c's backends and substances;
 // parameter lists of one value come back as that one value, and relative
 // backend paths stay relative (to the folder the written file is loaded
-// from).
+// from). Write does not validate: a catalog built in code should be checked
+// by parsing what was written, as the fit command does.
 func Write(w io.Writer, c *Catalog) error {
 	bw := bufio.NewWriter(w)
 	p := &printer{w: bw}

@@ -88,8 +88,8 @@ func TestWriteBuiltCatalog(t *testing.T) {
 	c := &Catalog{
 		Source: "fit\nresult",
 		Substances: []*Substance{{
-			ID: "lab-sample", Name: "Sample \"A\"\t\\ with ü and \x01", MolarMass: 0.1,
-			Provenance: Provenance{Kind: Fit, DataFile: "runs/2026-11.csv", DataSHA256: strings.Repeat("0", 64), Note: "line one\nline two"},
+			ID: "lab-sample", Name: "Sample \"A\" \\ with ü", MolarMass: 0.1,
+			Provenance: Provenance{Kind: Fit, DataFile: "runs/2026-11.csv", DataSHA256: strings.Repeat("0", 64), Note: "line one\nline two\twith \x01 and \x7f"},
 			Curves: []*Curve{{Kind: thermo.Saturation, Branches: []*Branch{{
 				Correlation: Correlation{Family: "clausius-clapeyron", Params: thermo.Params{"t0": {300}, "p0": {1e5}, "delta_h": {4.0000000000000001e4}}},
 				Tmin:        250, Tmax: 350.5,
