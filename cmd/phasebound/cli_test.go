@@ -19,7 +19,7 @@ import (
 // evalJSON runs eval with --json and decodes its output.
 func evalJSON(t *testing.T, args ...string) map[string]any {
 	t.Helper()
-	code, out, errOut := runCmd(t, append([]string{"--json", "eval"}, args...)...)
+	code, out, errOut := runCmd(t, append([]string{"--server", sharedServer(t), "--json", "eval"}, args...)...)
 	if code != 0 {
 		t.Fatalf("eval %v: exit %d: %s", args, code, errOut)
 	}
@@ -120,8 +120,12 @@ func TestBadInputOneLine(t *testing.T) {
 		{[]string{"phase", "--substance", "nothing", "--temperature", "300", "--pressure", "1atm"}, []string{"nothing", "water"}},
 		{[]string{"--catalog", "/nonexistent/catalog.toml", "substances"}, []string{"/nonexistent/catalog.toml"}},
 	}
-	for _, tt := range tests {
-		code, out, errOut := runCmd(t, tt.args...)
+	for k, tt := range tests {
+		args := tt.args
+		if k%4 != 0 && tt.args[0] != "--catalog" {
+			args = append([]string{"--server", sharedServer(t)}, args...) // most through the shared server, some in-process
+		}
+		code, out, errOut := runCmd(t, args...)
 		if code == 0 {
 			t.Errorf("%v: exit 0, stdout %q", tt.args, out)
 			continue
@@ -153,7 +157,7 @@ func TestPhaseJSON(t *testing.T) {
 		{"400degC", "30MPa", "supercritical", ""}, // above 647.096 K and 22.064 MPa (IAPWS-IF97)
 	}
 	for _, tt := range tests {
-		code, out, errOut := runCmd(t, "--json", "phase", "--substance", "water", "--temperature", tt.t, "--pressure", tt.p)
+		code, out, errOut := runCmd(t, "--server", sharedServer(t), "--json", "phase", "--substance", "water", "--temperature", tt.t, "--pressure", tt.p)
 		if code != 0 {
 			t.Fatalf("phase %s %s: exit %d: %s", tt.t, tt.p, code, errOut)
 		}
@@ -171,7 +175,7 @@ func TestPhaseJSON(t *testing.T) {
 }
 
 func TestSubstances(t *testing.T) {
-	code, out, errOut := runCmd(t, "--json", "substances")
+	code, out, errOut := runCmd(t, "--server", sharedServer(t), "--json", "substances")
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errOut)
 	}
@@ -220,7 +224,7 @@ func TestEvalBatch(t *testing.T) {
 		t.Fatal(err)
 	}
 	out := filepath.Join(dir, "out.csv")
-	code, stdout, errOut := runCmd(t, "--json", "eval", "--substance", "water", "--curve", "saturation",
+	code, stdout, errOut := runCmd(t, "--server", sharedServer(t), "--json", "eval", "--substance", "water", "--curve", "saturation",
 		"--input", in, "--output", out, "--chunk", "1000")
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errOut)
@@ -279,7 +283,7 @@ func TestDemo(t *testing.T) {
 			t.Errorf("demo report lacks %q", s)
 		}
 	}
-	code, out, errOut = runCmd(t, "--json", "demo")
+	code, out, errOut = runCmd(t, "--server", sharedServer(t), "--json", "demo")
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errOut)
 	}
