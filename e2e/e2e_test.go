@@ -195,6 +195,17 @@ func TestEndToEnd(t *testing.T) {
 		}
 	}
 
+	// Latent heat by the Clapeyron equation where the catalog gives phase volumes.
+	lh, err := c.Evaluate(ctx, &pb.EvaluateRequest{Substance: "water", Curve: pb.CurveKind_CURVE_KIND_SATURATION,
+		Given: pb.Variable_VARIABLE_TEMPERATURE, Values: []float64{373.124}, IncludeLatentHeat: true, Strict: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if lh.LatentHeatSource[0] == pb.LatentHeatSource_LATENT_HEAT_SOURCE_CLAPEYRON &&
+		!scalar.EqualWithinAbsOrRel(lh.LatentHeatJPerKg[0], 2257e3, 0, 0.005) { // about 2257 kJ/kg at the normal boiling point, common practice
+		t.Errorf("latent heat of vaporisation at 373.124 K: %g J/kg", lh.LatentHeatJPerKg[0])
+	}
+
 	// A batch beyond gRPC's default 4 MiB: 655,360 temperatures (5 MiB of
 	// doubles), once in one unary call and once streamed in chunks.
 	const n = 655_360
