@@ -5,7 +5,7 @@ BUF_VERSION             := v1.75.0
 PROTOC_GEN_GO_VERSION   := v1.36.12
 PROTOC_GEN_GRPC_VERSION := v1.6.0
 
-.PHONY: build test unit fuzz proto proto-check demo tools bench
+.PHONY: build test unit fuzz proto proto-check demo tools bench clients
 
 build:
 	$(GO) build -o bin/phasebound ./cmd/phasebound
@@ -34,6 +34,7 @@ test: build
 	$(GO) vet ./...
 	$(GO) test -race -count=1 -timeout 25m ./...
 	scripts/fuzz.sh 4
+	$(MAKE) clients
 
 # demo builds, starts a server on loopback with the embedded catalog, runs
 # the demo scenario against it, prints the report, and stops the server.
@@ -42,3 +43,9 @@ demo: build
 
 bench: build
 	bin/phasebound bench
+
+# clients builds the C ABI library (clients/capi) and the C, C++, Fortran
+# and Python examples, and runs them against $$PHASEBOUND_SERVER, or against
+# a server it starts on loopback and stops.
+clients: build
+	GO=$(GO) scripts/clients.sh
