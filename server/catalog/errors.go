@@ -18,6 +18,7 @@ type Error struct {
 	Err   error  // what is wrong
 }
 
+// Error formats the error as one line: "file:line: where: what".
 func (e *Error) Error() string {
 	var b strings.Builder
 	b.WriteString(e.File)
