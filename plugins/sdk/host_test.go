@@ -566,3 +566,18 @@ func TestHostStartReplacesBackend(t *testing.T) {
 		t.Fatalf("after replacement: %+v, %v", res, err)
 	}
 }
+
+// TestHostStartFailureQuotesBackend: a backend that dies at start-up has
+// its last words in the error.
+func TestHostStartFailureQuotesBackend(t *testing.T) {
+	h := newTestHost(t, HostConfig{Command: func(name string) (*exec.Cmd, error) {
+		return testCommand("Not A Valid Name") // Serve refuses the malformed backend and exits 1
+	}})
+	err := h.Start(context.Background(), BackendSpec{Name: "doomed"})
+	if err == nil || !strings.Contains(err.Error(), `backend name "Not A Valid Name" must match`) {
+		t.Fatalf("err = %v, want one quoting the backend's own complaint", err)
+	}
+	if strings.Contains(err.Error(), "\n") {
+		t.Errorf("error spans lines: %q", err)
+	}
+}

@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"os/exec"
 	"path/filepath"
+	"strings"
 	"sync"
 	"sync/atomic"
 	"time"
@@ -115,6 +116,7 @@ func (s *supervisor) launch(ctx context.Context) (*instance, error) {
 
 	cmd.Env = append(cmd.Env, plugin.EnvUnixSocketDir+"="+h.socketDir)
 	setParentDeathSignal(cmd)
+	stderr := &tailBuffer{}
 	client := plugin.NewClient(&plugin.ClientConfig{
 		HandshakeConfig:  handshake,
 		VersionedPlugins: pluginSets(nil),
@@ -125,10 +127,17 @@ func (s *supervisor) launch(ctx context.Context) (*instance, error) {
 		StartTimeout:     h.cfg.StartTimeout,
 		Logger:           h.hclog.Named(name),
 		GRPCDialOptions:  hostDialOptions(),
+		Stderr:           stderr,
 	})
 	fail := func(err error) (*instance, error) {
 		client.Kill()
-		return nil, fmt.Errorf("sdk: starting backend %q (%s): %w", name, cmd.Path, err)
+		// go-plugin's messages run over several lines; errors here are one.
+		msg := strings.Join(strings.Fields(err.Error()), " ")
+		if tail := stderr.String(); tail != "" {
+			// A backend that dies at start-up usually said why: lead with it.
+			return nil, fmt.Errorf("sdk: starting backend %q (%s) failed; it said: %s [%s]", name, cmd.Path, tail, msg)
+		}
+		return nil, fmt.Errorf("sdk: starting backend %q (%s): %s", name, cmd.Path, msg)
 	}
 	proto, err := client.Client()
 	if err != nil {
@@ -241,4 +250,30 @@ func (s *supervisor) shutdown() {
 		s.cancel()
 	})
 	<-s.done
+}
+
+// tailBufferSize is how much of a backend's stderr a start-up error quotes.
+const tailBufferSize = 1024
+
+// tailBuffer keeps the last tailBufferSize bytes written to it.
+type tailBuffer struct {
+	mu  sync.Mutex
+	buf []byte
+}
+
+func (b *tailBuffer) Write(p []byte) (int, error) {
+	b.mu.Lock()
+	defer b.mu.Unlock()
+	b.buf = append(b.buf, p...)
+	if over := len(b.buf) - tailBufferSize; over > 0 {
+		b.buf = append(b.buf[:0], b.buf[over:]...)
+	}
+	return len(p), nil
+}
+
+// String returns the kept output on one line.
+func (b *tailBuffer) String() string {
+	b.mu.Lock()
+	defer b.mu.Unlock()
+	return strings.Join(strings.Fields(string(b.buf)), " ")
 }
