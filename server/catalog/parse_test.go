@@ -303,3 +303,29 @@ func TestLoadFilesIncludeDefault(t *testing.T) {
 		t.Errorf("error %v", err)
 	}
 }
+
+// TestBrokenCatalogFiles loads testdata/catalog/broken-*.toml, each of
+// which names the error it must give on its second line ("# want: ...").
+func TestBrokenCatalogFiles(t *testing.T) {
+	t.Parallel()
+	dir := filepath.Dir(goodPath)
+	files, err := filepath.Glob(filepath.Join(dir, "broken-*.toml"))
+	if err != nil || len(files) < 5 {
+		t.Fatalf("broken catalogs: %v, %v", files, err)
+	}
+	for _, f := range files {
+		data, err := os.ReadFile(f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		lines := strings.SplitN(string(data), "\n", 3)
+		want, ok := strings.CutPrefix(lines[1], "# want: ")
+		if !ok {
+			t.Fatalf("%s: second line is not \"# want: ...\"", f)
+		}
+		_, err = Load(f)
+		if err == nil || !strings.HasPrefix(err.Error(), filepath.Join(dir, want)) {
+			t.Errorf("%s: error\n  %v\nwant it to start with\n  %s", filepath.Base(f), err, filepath.Join(dir, want))
+		}
+	}
+}
