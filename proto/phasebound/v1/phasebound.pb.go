@@ -154,7 +154,9 @@ const (
 	// Evaluated outside the validity range because the caller allowed
 	// extrapolation. Treat with care.
 	PointStatus_POINT_STATUS_EXTRAPOLATED PointStatus = 5
-	// The backend could not answer (restarting); retry.
+	// The backend could not answer (restarting); retry. A server whose
+	// backend is down fails the whole call with UNAVAILABLE instead, which
+	// clients retry; this value is for per-point reports.
 	PointStatus_POINT_STATUS_UNAVAILABLE PointStatus = 6
 )
 
@@ -1167,7 +1169,8 @@ type EvaluateRequest struct {
 	// Evaluate through the backend correlation instead of the tables.
 	Exact bool `protobuf:"varint,6,opt,name=exact,proto3" json:"exact,omitempty"`
 	// Fail the whole call (InvalidArgument or OutOfRange with one field
-	// violation per bad point) instead of reporting per-point statuses.
+	// violation per bad point, "values[i]" with i counted from the start of
+	// the stream for EvaluateStream) instead of reporting per-point statuses.
 	Strict bool `protobuf:"varint,7,opt,name=strict,proto3" json:"strict,omitempty"`
 	// Evaluate outside the validity range; such points are marked
 	// POINT_STATUS_EXTRAPOLATED.
@@ -1274,7 +1277,8 @@ func (x *EvaluateRequest) GetIncludeLatentHeat() bool {
 // PointError explains one failed point of a batch.
 type PointError struct {
 	state protoimpl.MessageState `protogen:"open.v1"`
-	// Index of the point in the request's values.
+	// Index of the point in the request's values (within the chunk, for
+	// EvaluateStream; add the response's offset).
 	Index   uint32      `protobuf:"varint,1,opt,name=index,proto3" json:"index,omitempty"`
 	Status  PointStatus `protobuf:"varint,2,opt,name=status,proto3,enum=phasebound.v1.PointStatus" json:"status,omitempty"`
 	Message string      `protobuf:"bytes,3,opt,name=message,proto3" json:"message,omitempty"`
