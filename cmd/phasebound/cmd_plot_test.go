@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"encoding/json"
 	"encoding/xml"
-	"fmt"
 	"image"
 	_ "image/png"
 	"io"
@@ -12,26 +11,7 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
-
-	"github.com/phasebound/phasebound/plugins/sdk"
 )
-
-// The in-process server re-executes os.Executable() as "backend NAME" to
-// start the standard backends; under go test that is the test binary, so
-// it must serve as a backend when started so (before the testing flags are
-// parsed). An init function, not TestMain, so it cannot clash with another
-// test file's TestMain.
-func init() {
-	if len(os.Args) == 3 && os.Args[1] == "backend" && sdk.CheckLaunched() == nil {
-		b, err := sdk.Standard(os.Args[2])
-		if err != nil {
-			fmt.Fprintln(os.Stderr, err)
-			os.Exit(1)
-		}
-		sdk.Serve(b)
-		os.Exit(0)
-	}
-}
 
 var goodCatalog = filepath.Join("..", "..", "testdata", "audit", "good.toml")
 
@@ -99,11 +79,13 @@ func TestPlotKinds(t *testing.T) {
 		}
 		checkImageFile(t, out)
 	}
-	// The embedded default catalog's water: five melting branches, the
-	// sublimation curve down to 50 K (clipped by the automatic axes).
+	// The embedded default catalog's water through --server: five melting
+	// branches, the sublimation curve down to 50 K (clipped by the
+	// automatic axes). (The other cases above run the in-process server.)
+	addr := sharedServer(t)
 	for _, name := range []string{"water.png", "water-latent.svg"} {
 		out := filepath.Join(dir, name)
-		args := []string{"plot", "--substance", "water", "--out", out}
+		args := []string{"--server", addr, "plot", "--substance", "water", "--out", out}
 		if strings.Contains(name, "latent") {
 			args = append(args, "--kind", "latent-heat")
 		}
