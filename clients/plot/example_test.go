@@ -42,7 +42,7 @@ func ExamplePhaseDiagram() {
 	}
 	fmt.Printf("%s %d×%d\n", format, cfg.Width, cfg.Height)
 	// Output:
-	// png 907×605
+	// png 1361×907
 }
 
 func ExampleFormatPressure() {

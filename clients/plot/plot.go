@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"image/color"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
@@ -16,6 +17,8 @@ import (
 	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
+	"gonum.org/v1/plot/vg/vgsvg"
 
 	phaseboundpb "github.com/phasebound/phasebound/proto/phasebound/v1"
 )
@@ -49,25 +52,32 @@ type Options struct {
 	Title string
 }
 
-// Size is the default image size: 24 cm × 16 cm (at 96 dpi for PNG about
-// 907 × 605 pixels).
+// Width and Height are the image size: 24 cm × 16 cm, which at PNGDPI is
+// 1361 × 907 pixels.
 var (
 	Width  = 24 * vg.Centimeter
 	Height = 16 * vg.Centimeter
 )
 
+// PNGDPI is the resolution of PNG output, sharp on screens and in reports.
+const PNGDPI = 144
+
 // Save writes p to path as PNG or SVG, chosen by the extension (.png or
-// .svg), at the default size.
+// .svg), at Width × Height.
 func Save(p *gp.Plot, path string) error {
 	ext := strings.ToLower(strings.TrimPrefix(filepath.Ext(path), "."))
+	var wt io.WriterTo
 	switch ext {
-	case "png", "svg":
+	case "png":
+		c := vgimg.NewWith(vgimg.UseWH(Width, Height), vgimg.UseDPI(PNGDPI))
+		p.Draw(draw.New(c))
+		wt = vgimg.PngCanvas{Canvas: c}
+	case "svg":
+		c := vgsvg.New(Width, Height)
+		p.Draw(draw.New(c))
+		wt = c
 	default:
 		return fmt.Errorf("plot: output %q must end in .png or .svg", path)
-	}
-	wt, err := p.WriterTo(Width, Height, ext)
-	if err != nil {
-		return fmt.Errorf("plot: %w", err)
 	}
 	f, err := os.Create(path)
 	if err != nil {
