@@ -21,6 +21,7 @@ import (
 	"net/netip"
 	"os"
 	"os/signal"
+	"sync"
 	"syscall"
 
 	"github.com/spf13/pflag"
@@ -45,10 +46,19 @@ type serveSecurity struct {
 }
 
 func init() {
-	f := &serveSecurity{}
 	registerServeHook(serveHook{
-		Flags: f.addFlags,
+		Flags: func(fs *pflag.FlagSet) {
+			// Every run builds a fresh serve command (even runs of other
+			// commands do); each gets its own flag storage, so concurrent
+			// runs in tests never share it.
+			f := &serveSecurity{}
+			f.addFlags(fs)
+			serveSecurityMu.Lock()
+			serveSecurityLast = f
+			serveSecurityMu.Unlock()
+		},
 		Options: func(ctx context.Context, env *serveEnv) ([]grpc.ServerOption, bool, error) {
+			f := currentServeSecurity()
 			opts, err := f.grpcOptions(ctx, env.App, env.Listen, env.Log, env.ServerOptions)
 			if err != nil {
 				return nil, false, err
@@ -56,9 +66,22 @@ func init() {
 			return opts, f.sec.TLS() || f.sec.TokenRequired(), nil
 		},
 		Started: func(ctx context.Context, env *serveEnv) (func(), error) {
-			return f.afterStart(ctx, env.Server, env.LoadCatalog, env.Log), nil
+			return currentServeSecurity().afterStart(ctx, env.Server, env.LoadCatalog, env.Log), nil
 		},
 	})
+}
+
+// serveSecurityLast is the flag storage of the serve command built last:
+// the one being run, since a process runs one command at a time.
+var (
+	serveSecurityMu   sync.Mutex
+	serveSecurityLast *serveSecurity
+)
+
+func currentServeSecurity() *serveSecurity {
+	serveSecurityMu.Lock()
+	defer serveSecurityMu.Unlock()
+	return serveSecurityLast
 }
 
 // addFlags adds the security, limit and metrics flags to the serve command.
