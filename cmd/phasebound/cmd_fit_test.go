@@ -280,3 +280,57 @@ func FuzzParseDataCSV(f *testing.F) {
 		}
 	})
 }
+
+// The demo scenario's setup workflow on its invented melting measurements:
+// fit a Simon–Glatzel form anchored at the catalog's triple point, draw the
+// residuals, audit the fitted catalog, and query it.
+func TestFitDemoMeltingWorkflow(t *testing.T) {
+	t.Parallel()
+	data := filepath.Join("..", "..", "testdata", "demo", "frostwax-melting.csv")
+	dir := t.TempDir()
+	out, res := filepath.Join(dir, "frostwax.toml"), filepath.Join(dir, "residuals.png")
+	code, stdout, errOut := runCmd(t, "--json", "fit", "--substance", "demo-frostwax", "--curve", "melting",
+		"--family", "simon-glatzel", "--data", data, "--fixed", "t0=291.35,p0=12", "--tmin", "291.35",
+		"--out", out, "--plot", res)
+	if code != 0 {
+		t.Fatalf("fit: exit %d: %s", code, errOut)
+	}
+	var rep struct {
+		NPoints  int      `json:"n_points"`
+		RMS      float64  `json:"rms_rel_dev"`
+		Warnings []string `json:"warnings"`
+	}
+	if err := json.Unmarshal([]byte(stdout), &rep); err != nil {
+		t.Fatal(err)
+	}
+	// 26 invented points with about 1 % scatter (testdata/demo/README.md).
+	if rep.NPoints != 26 || rep.RMS > 0.03 || len(rep.Warnings) == 0 {
+		t.Errorf("n %d, rms %g, warnings %v (want the widened-range warning)", rep.NPoints, rep.RMS, rep.Warnings)
+	}
+	checkImageFile(t, res)
+	code, stdout, errOut = runCmd(t, "--catalog", out, "--json", "check", "--substance", "demo-frostwax")
+	if code != 0 {
+		t.Fatalf("check: exit %d: %s %s", code, stdout, errOut)
+	}
+	var ck checkJSON
+	if err := json.Unmarshal([]byte(stdout), &ck); err != nil {
+		t.Fatal(err)
+	}
+	slope := false
+	for _, f := range ck.Findings {
+		if f.Code == "clapeyron-slope" && f.Curve == "melting" {
+			slope = true
+			if dev := f.Values["deviation_rel"]; dev > 0.03 || dev < -0.03 {
+				t.Errorf("fitted melting slope %g off the catalog's Clapeyron slope", dev)
+			}
+		}
+	}
+	if !ck.OK || !slope {
+		t.Errorf("audit of the fitted catalog: %s", stdout)
+	}
+	code, stdout, errOut = runCmd(t, "--catalog", out, "--json", "eval", "--substance", "demo-frostwax",
+		"--curve", "melting", "--temperature", "300")
+	if code != 0 || !strings.Contains(stdout, `"pressure_pa"`) {
+		t.Fatalf("eval: exit %d: %s %s", code, stdout, errOut)
+	}
+}
