@@ -166,19 +166,15 @@ type backendStart struct {
 }
 
 // startBackend starts spec unless it runs already (or is starting: then it
-// waits for that start). A backend name may not change its executable
-// while the server runs. Different backends start concurrently.
+// waits for that start). Different backends start concurrently.
 func (s *Server) startBackend(ctx context.Context, spec sdk.BackendSpec) error {
 	s.mu.Lock()
 	if s.closed {
 		s.mu.Unlock()
 		return errors.New("server: closed")
 	}
-	if st, ok := s.started[spec.Name]; ok {
+	if st, ok := s.started[spec.Name]; ok && st.spec == spec {
 		s.mu.Unlock()
-		if st.spec != spec {
-			return fmt.Errorf("server: backend %q is running from %s; restart the server to change it to %s", spec.Name, st.spec.Path, spec.Path)
-		}
 		select {
 		case <-st.done:
 		case <-ctx.Done():
@@ -186,6 +182,9 @@ func (s *Server) startBackend(ctx context.Context, spec sdk.BackendSpec) error {
 		}
 		return st.err
 	}
+	// New, or a changed executable (a reload that pins another build of a
+	// third-party backend): the host replaces a running backend of the
+	// same name once the new one runs.
 	st := &backendStart{spec: spec, done: make(chan struct{})}
 	s.started[spec.Name] = st
 	s.mu.Unlock()
