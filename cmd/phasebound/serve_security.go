@@ -93,9 +93,10 @@ func (f *serveSecurity) addFlags(fl *pflag.FlagSet) {
 	fl.StringVar(&f.healthListen, "health-listen", "", "also serve only the gRPC health service, plain-text and without token, on HOST:PORT (for probes that cannot do TLS, such as Kubernetes grpc probes); default: off")
 }
 
-// grpcOptions builds the gRPC server options (metrics, then authentication, then limits, so refused
-// calls are counted and strangers never reach the limits), sets the point
-// limit and the plugin-restart counter in opts, and starts the metrics
+// grpcOptions builds the gRPC server options (metrics, then
+// authentication, then limits, so refused calls are counted and strangers
+// never reach the limits), sets the point limit and the plugin-restart
+// counter in opts, binds the health-only listener and starts the metrics
 // listener, which stops when ctx ends.
 func (f *serveSecurity) grpcOptions(ctx context.Context, a *app, listen string, log *slog.Logger, opts *server.Options) ([]grpc.ServerOption, error) {
 	if f.maxPoints < 0 {
