@@ -32,7 +32,7 @@ type evalFlags struct {
 	substance, curve, branch string
 	temperature, pressure    string
 	exact, extrapolate       bool
-	input, output            string
+	input, output, column    string
 	chunk                    int
 }
 
@@ -84,6 +84,7 @@ engineers.`,
 	fl.BoolVar(&f.extrapolate, "extrapolate", false, "evaluate outside the validity range (results marked extrapolated)")
 	fl.StringVar(&f.input, "input", "", "batch input CSV with a temperature_k or pressure_pa column")
 	fl.StringVar(&f.output, "output", "", "batch output CSV (- for stdout)")
+	fl.StringVar(&f.column, "column", "", "batch input column to evaluate when the file has both: temperature_k or pressure_pa")
 	fl.IntVar(&f.chunk, "chunk", 1<<16, "batch rows per request")
 	_ = fl.MarkHidden("chunk")
 	return cmd
@@ -359,23 +360,31 @@ func (a *app) evalBatch(ctx context.Context, f evalFlags) error {
 	if err != nil {
 		return fmt.Errorf("--input %s: cannot read the CSV header: %v", f.input, err)
 	}
-	col, byT := -1, false
+	if f.column != "" && f.column != "temperature_k" && f.column != "pressure_pa" {
+		return fmt.Errorf("--column %q (valid: temperature_k, pressure_pa)", f.column)
+	}
+	tcol, pcol := -1, -1
 	for i, h := range header {
 		switch strings.TrimSpace(strings.TrimPrefix(h, "\ufeff")) {
 		case "temperature_k":
-			if col >= 0 {
-				return fmt.Errorf("--input %s has both temperature_k and pressure_pa columns: keep one", f.input)
-			}
-			col, byT = i, true
+			tcol = i
 		case "pressure_pa":
-			if col >= 0 {
-				return fmt.Errorf("--input %s has both temperature_k and pressure_pa columns: keep one", f.input)
-			}
-			col = i
+			pcol = i
 		}
 	}
+	col, byT := pcol, false
+	switch {
+	case f.column == "temperature_k" || (f.column == "" && pcol < 0):
+		col, byT = tcol, true
+	case f.column == "" && tcol >= 0:
+		return fmt.Errorf("--input %s has both temperature_k and pressure_pa columns: say which to evaluate with --column temperature_k (P(T)) or --column pressure_pa (T(P))", f.input)
+	}
 	if col < 0 {
-		return fmt.Errorf("--input %s has no temperature_k or pressure_pa column (header: %s)", f.input, strings.Join(header, ","))
+		want := "a temperature_k or pressure_pa column"
+		if f.column != "" {
+			want = "the column " + f.column
+		}
+		return fmt.Errorf("--input %s has no %s (header: %s)", f.input, want, strings.Join(header, ","))
 	}
 	req.Given = pb.Variable_VARIABLE_PRESSURE
 	if byT {
@@ -430,7 +439,7 @@ func (a *app) evalBatch(ctx context.Context, f evalFlags) error {
 	if a.jsonOut && f.output != "-" {
 		return writeJSON(a.stdout, sum)
 	}
-	msg := fmt.Sprintf("phasebound: %d rows evaluated, %d ok, %d failed (see the status column)", sum.Rows, sum.OK, sum.Failed)
+	msg := fmt.Sprintf("eval: %d rows, %d ok, %d failed (see the status column)", sum.Rows, sum.OK, sum.Failed)
 	if f.output != "-" {
 		msg += ", written to " + f.output
 	}
