@@ -65,3 +65,26 @@ func TestDialRejectsBadTargets(t *testing.T) {
 		}
 	}
 }
+
+// TestDialTargets dials a list of addresses (round-robin) and a dns:///
+// target, and evaluates through each.
+func TestDialTargets(t *testing.T) {
+	a, b := tcpAddress(), tcpAddress()
+	for _, target := range []string{a + "," + b, "dns:///" + a} {
+		c, err := dial(target)
+		if err != nil {
+			t.Fatalf("Dial(%q): %v", target, err)
+		}
+		for i := 0; i < 4; i++ {
+			r, err := c.Evaluate(context.Background(), &pb.EvaluateRequest{Substance: "water", Curve: pb.CurveKind_CURVE_KIND_SATURATION,
+				Given: pb.Variable_VARIABLE_TEMPERATURE, Values: []float64{300}})
+			if err != nil {
+				t.Fatalf("%q call %d: %v", target, i, err)
+			}
+			if !scalar.EqualWithinAbsOrRel(r.PressurePa[0], 3.53658941e3, 0, 1e-8) { // IAPWS-IF97 Psat(300 K) = 3.53658941 kPa
+				t.Errorf("%q: P(300 K) = %g", target, r.PressurePa[0])
+			}
+		}
+		c.Close()
+	}
+}
