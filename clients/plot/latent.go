@@ -53,6 +53,7 @@ func LatentHeat(ctx context.Context, src Source, id string, opt Options) (*gp.Pl
 	ymax := 0.0
 	drawn := 0
 	var lines []gp.Plotter
+	var missing []string // curves without a latent heat
 	for _, c := range sub.GetCurves() {
 		for bi, b := range c.GetBranches() {
 			v := b.GetValidity()
@@ -100,6 +101,10 @@ func LatentHeat(ctx context.Context, src Source, id string, opt Options) (*gp.Pl
 				}
 			}
 			label := branchLabel(c.GetKind(), b, len(c.GetBranches()))
+			if len(exact) < 2 && len(estimate) < 2 {
+				missing = append(missing, label)
+				continue
+			}
 			clr := shade(kindColor(c.GetKind()), bi, len(c.GetBranches()))
 			for k, xy := range []plotter.XYs{exact, estimate} {
 				if len(xy) < 2 {
@@ -125,6 +130,9 @@ func LatentHeat(ctx context.Context, src Source, id string, opt Options) (*gp.Pl
 				}
 			}
 		}
+	}
+	for _, m := range missing {
+		p.Legend.Add(m + ": no phase volumes, not drawn")
 	}
 	if drawn == 0 {
 		return nil, fmt.Errorf("plot: substance %q has no latent heat to draw (no curve has phase volumes and none is a vapour curve)", id)
