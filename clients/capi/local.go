@@ -44,8 +44,10 @@ type localCurve struct {
 
 type localBranch struct {
 	name        string
-	tmin, tmax  float64
 	vLow, vHigh *thermo.Table // nil when unknown
+	// vTmin and vTmax bound both volume tables (they may stop a hair
+	// inside the branch's range, at a critical point).
+	vTmin, vTmax float64
 }
 
 // outputs are the caller's arrays; a nil slice is not wanted.
@@ -110,12 +112,18 @@ func newTableSet(substance string, r *phaseboundpb.ExportTablesResponse) (*table
 			return nil, fmt.Errorf("%s: %w", where, err)
 		}
 		lb := localBranch{name: bt.GetBranch()}
-		lb.tmin, lb.tmax = pt.Domain()
 		if lb.vLow, err = loadProtoTable(bt.GetVolumeLowTPhase(), "temperature", "K"); err != nil {
 			return nil, fmt.Errorf("%s: low-T phase volume table: %w", where, err)
 		}
 		if lb.vHigh, err = loadProtoTable(bt.GetVolumeHighTPhase(), "temperature", "K"); err != nil {
 			return nil, fmt.Errorf("%s: high-T phase volume table: %w", where, err)
+		}
+		if lb.vLow != nil && lb.vHigh != nil {
+			lo1, hi1 := lb.vLow.Domain()
+			lo2, hi2 := lb.vHigh.Domain()
+			lb.vTmin, lb.vTmax = math.Max(lo1, lo2), math.Min(hi1, hi2)
+		} else {
+			lb.vLow, lb.vHigh = nil, nil
 		}
 		ts.maxErr = math.Max(ts.maxErr, pt.MaxRelError())
 		if tp != nil {
@@ -236,9 +244,9 @@ func pointStatus(err error) int32 {
 
 // latentPerKg is the latent heat in J/kg at pt, as the server's table path
 // computes it: the Clapeyron equation ΔH = T·(v_high − v_low)·dP/dT with
-// the phase volumes from their tables (at T clamped into the branch's
-// range); without volumes on a vapour curve the ideal-gas
-// Clausius–Clapeyron estimate R·T²·dP/dT / P; otherwise NaN.
+// the phase volumes from their tables (at T clamped into the tables'
+// common range); where the branch has no volume tables, on a vapour curve
+// the ideal-gas Clausius–Clapeyron estimate R·T²·dP/dT / P; otherwise NaN.
 func (ts *tableSet) latentPerKg(lc *localCurve, pt thermo.CurvePoint) float64 {
 	if !(ts.molarMass > 0) {
 		return math.NaN()
@@ -246,12 +254,13 @@ func (ts *tableSet) latentPerKg(lc *localCurve, pt thermo.CurvePoint) float64 {
 	b := &lc.branches[pt.Branch]
 	t, p, d := pt.Temperature, pt.Pressure, pt.Slope
 	if b.vLow != nil && b.vHigh != nil {
-		tc := math.Min(math.Max(t, b.tmin), b.tmax)
+		tc := math.Min(math.Max(t, b.vTmin), b.vTmax)
 		vl, errL := b.vLow.Value(tc)
 		vh, errH := b.vHigh.Value(tc)
-		if errL == nil && errH == nil {
-			return t * (vh - vl) * d / ts.molarMass
+		if errL != nil || errH != nil || math.IsNaN(vl) || math.IsNaN(vh) {
+			return math.NaN() // no estimate that would contradict the volumes
 		}
+		return t * (vh - vl) * d / ts.molarMass
 	}
 	if lc.vapour {
 		return thermo.R * t * t * d / p / ts.molarMass

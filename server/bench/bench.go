@@ -263,6 +263,8 @@ type caseData struct {
 	table   *thermo.Table
 	tvLow   *thermo.Table
 	tvHigh  *thermo.Table
+	vTmin   float64 // common range of the volume tables
+	vTmax   float64
 	latent  bool // the latent path applies
 	served  float64
 	tmin    float64
@@ -403,6 +405,9 @@ func prepare(ctx context.Context, cfg Config, c Case, rng *rand.Rand) (*caseData
 			if d.tvHigh, err = loadTable(bt.GetVolumeHighTPhase(), "temperature", "K"); err != nil {
 				return nil, err
 			}
+			lo1, hi1 := d.tvLow.Domain()
+			lo2, hi2 := d.tvHigh.Domain()
+			d.vTmin, d.vTmax = math.Max(lo1, lo2), math.Min(hi1, hi2)
 		}
 	}
 	if d.table == nil {
@@ -560,11 +565,14 @@ func (d *caseData) directLatent(t float64) (float64, error) {
 	return t * (vh - vl) * dp, nil
 }
 
-// tableLatent is the same from the tables, as the server computes it.
+// tableLatent is the same from the tables, as the server computes it (the
+// volumes at T clamped into the volume tables' common range, which may
+// stop a hair short of a critical point).
 func (d *caseData) tableLatent(t float64) float64 {
 	_, dp, _ := d.table.Eval(t)
-	vl, _ := d.tvLow.Value(t)
-	vh, _ := d.tvHigh.Value(t)
+	tc := math.Min(math.Max(t, d.vTmin), d.vTmax)
+	vl, _ := d.tvLow.Value(tc)
+	vh, _ := d.tvHigh.Value(tc)
 	return t * (vh - vl) * dp
 }
 
