@@ -243,7 +243,8 @@ func newTestHost(t testing.TB, cfg HostConfig) *Host {
 }
 
 // runTestHost is a host process for TestBackendDiesWithHost: it starts one
-// backend, prints the backend's pid and waits to be killed.
+// backend, prints the backend's pid and its socket directory, and waits to
+// be killed.
 func runTestHost() int {
 	h := NewHost(HostConfig{Command: testCommand, Logger: slog.New(slog.NewTextHandler(io.Discard, nil))})
 	if err := h.Start(context.Background(), BackendSpec{Name: "orphan"}); err != nil {
@@ -251,10 +252,10 @@ func runTestHost() int {
 		return 1
 	}
 	h.mu.Lock()
-	pid := h.sups["orphan"].cur.Load().pid
+	pid, dir := h.sups["orphan"].cur.Load().pid, h.socketDir
 	h.mu.Unlock()
 	w := bufio.NewWriter(os.Stdout)
-	fmt.Fprintln(w, strconv.Itoa(pid))
+	fmt.Fprintln(w, strconv.Itoa(pid), dir)
 	w.Flush()
 	ch := make(chan os.Signal, 1)
 	signal.Notify(ch, syscall.SIGTERM)

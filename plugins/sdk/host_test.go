@@ -270,6 +270,9 @@ func TestHostRestartsKilledBackend(t *testing.T) {
 	if !waitFor(10*time.Second, func() bool { return processGone(pid) }) {
 		t.Errorf("killed backend %d was not reaped", pid)
 	}
+	if entries, err := os.ReadDir(h.socketDir); err != nil || len(entries) != 1 {
+		t.Errorf("socket directory holds %v (%v), want only the new backend's socket", entries, err)
+	}
 }
 
 func TestHostCloseLeavesNoChild(t *testing.T) {
@@ -334,10 +337,16 @@ func testBackendDiesWithHost(t *testing.T, mode string) {
 	if err != nil {
 		t.Fatalf("host printed no backend pid: %v", err)
 	}
-	pid, err := strconv.Atoi(strings.TrimSpace(line))
+	fields := strings.Fields(line)
+	if len(fields) != 2 {
+		t.Fatalf("host printed %q, want PID DIR", line)
+	}
+	pid, err := strconv.Atoi(fields[0])
 	if err != nil {
 		t.Fatalf("host printed %q: %v", line, err)
 	}
+	// A host killed by SIGKILL cannot remove its socket directory.
+	t.Cleanup(func() { _ = os.RemoveAll(fields[1]) })
 	if processGone(pid) {
 		t.Fatalf("backend %d not running before the host is killed", pid)
 	}

@@ -5,6 +5,7 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"fmt"
+	"os"
 	"os/exec"
 	"path/filepath"
 	"strings"
@@ -43,6 +44,7 @@ type instance struct {
 	info    BackendInfo
 	path    string
 	pid     int
+	socket  string // the backend's unix socket, left behind when it is killed
 	started time.Time
 	dead    chan struct{} // closed once the process has exited
 }
@@ -168,8 +170,11 @@ func (s *supervisor) launch(ctx context.Context) (*instance, error) {
 		started: time.Now(),
 		dead:    make(chan struct{}),
 	}
-	if cmd.Process != nil {
-		inst.pid = cmd.Process.Pid
+	if rc := client.ReattachConfig(); rc != nil {
+		inst.pid = rc.Pid
+		if rc.Addr != nil && rc.Addr.Network() == "unix" {
+			inst.socket = rc.Addr.String()
+		}
 	}
 	if inst.info.Name != name {
 		h.log.Warn("backend calls itself by another name", "backend", name, "reported", inst.info.Name)
@@ -192,7 +197,10 @@ func (s *supervisor) run(inst *instance) {
 		}
 		close(inst.dead)
 		uptime := time.Since(inst.started)
-		inst.client.Kill() // reap, remove its socket directory, end go-plugin's goroutines
+		inst.client.Kill() // reap, end go-plugin's goroutines
+		if inst.socket != "" {
+			_ = os.Remove(inst.socket) // a killed backend cannot remove its own
+		}
 		if uptime >= stableAfter {
 			backoff = h.cfg.MinBackoff
 		}
