@@ -247,6 +247,20 @@ func (s *Server) tablePass(ctx context.Context, q *query, lo, hi int, p *part) {
 		opts.Branch = q.cv.names[q.branch]
 	}
 	curve := q.cv.thermo
+	// Fast path (bench findings, docs/performance.md): with one branch to
+	// use (named, or the curve's only one), a point inside that branch's
+	// range is evaluated on its tables directly, skipping the per-point
+	// branch search of thermo.Curve; the values are the ones Curve returns.
+	fi := q.branch
+	if fi < 0 && len(q.cv.branch) == 1 {
+		fi = 0
+	}
+	var fb *branch
+	var fr thermo.Range
+	if fi >= 0 {
+		fb = q.cv.branch[fi]
+		fr = fb.corr.Range()
+	}
 	for i := lo; i < hi; i++ {
 		x := vals[i]
 		if i&0xffff == 0xffff && ctx.Err() != nil {
@@ -254,9 +268,15 @@ func (s *Server) tablePass(ctx context.Context, q *query, lo, hi int, p *part) {
 		}
 		var pt thermo.CurvePoint
 		var err error
-		if q.byT {
+		ok := false
+		if fb != nil {
+			pt, ok = fb.fastPoint(x, q.byT, fi, fr)
+		}
+		switch {
+		case ok:
+		case q.byT:
 			pt, err = curve.Pressure(x, opts)
-		} else {
+		default:
 			pt, err = curve.Temperature(x, opts)
 		}
 		if err != nil {
@@ -296,6 +316,37 @@ func (s *Server) tablePass(ctx context.Context, q *query, lo, hi int, p *part) {
 			q.setLatent(i, b, vl, vh)
 		}
 	}
+}
+
+// fastPoint evaluates x on branch b (index bi, range r = b.corr.Range())
+// when x lies inside the range and the tables can answer: exactly what
+// thermo.Curve returns for a point inside the range of the one branch it
+// considers (P(T) from the P(T) table; T(P) from the T(P) table with the
+// slope at T clamped into the range). ok is false otherwise, and the
+// caller takes the general path.
+func (b *branch) fastPoint(x float64, byT bool, bi int, r thermo.Range) (pt thermo.CurvePoint, ok bool) {
+	if byT {
+		if !(x > 0 && x >= r.Tmin && x <= r.Tmax) {
+			return pt, false
+		}
+		p, d, err := b.pOfT.Eval(x)
+		if err != nil {
+			return pt, false
+		}
+		return thermo.CurvePoint{Temperature: x, Pressure: p, Slope: d, Branch: bi}, true
+	}
+	if b.tOfP == nil || !(x > 0 && x >= r.Pmin && x <= r.Pmax) {
+		return pt, false
+	}
+	t, _, err := b.tOfP.Eval(x)
+	if err != nil {
+		return pt, false
+	}
+	_, d, err := b.pOfT.Eval(math.Min(math.Max(t, r.Tmin), r.Tmax))
+	if err != nil {
+		return pt, false
+	}
+	return thermo.CurvePoint{Temperature: t, Pressure: x, Slope: d, Branch: bi}, true
 }
 
 func clamp(x, lo, hi float64) float64 { return math.Min(math.Max(x, lo), hi) }
