@@ -271,3 +271,18 @@ func TestBackendValidate(t *testing.T) {
 		}
 	}
 }
+
+// TestWireNumbering: Op and FailureKind convert to and from the wire by
+// value, so their numbering must match the protocol's enums.
+func TestWireNumbering(t *testing.T) {
+	for op, name := range opNames {
+		if got := pluginpb.Operation(op).String(); got != "OPERATION_"+strings.ToUpper(name) {
+			t.Errorf("Op %v is %s on the wire", op, got)
+		}
+	}
+	for kind, name := range failNames {
+		if got := pluginpb.FailureKind(kind).String(); got != "FAILURE_KIND_"+strings.ToUpper(strings.ReplaceAll(name, "-", "_")) {
+			t.Errorf("FailureKind %v is %s on the wire", kind, got)
+		}
+	}
+}
