@@ -173,6 +173,9 @@ type LatentReport struct {
 	LatentTableNs     float64 `json:"latent_table_ns_per_point"`
 	LatentRPCBatchNs  float64 `json:"latent_rpc_batch_ns_per_point"`
 	LatentEchoFloorNs float64 `json:"latent_echo_floor_ns_per_point"`
+	// VolumeTablesNs is the two phase-volume tables alone: the extra work
+	// of the latent path over the pressure path.
+	VolumeTablesNs float64 `json:"volume_tables_ns_per_point"`
 	// Ratios: latent over pressure path, and the latent RPC over its floor.
 	TableRatio            float64 `json:"latent_table_over_table"`
 	DirectRatio           float64 `json:"latent_direct_over_direct"`
@@ -621,6 +624,14 @@ func measure(ctx context.Context, cfg Config, d *caseData) error {
 			acc += d.tableLatent(t)
 		}
 		d.add("latent_table", nsPer(t0, n))
+		t0 = time.Now()
+		for _, t := range d.xs {
+			tc := math.Min(math.Max(t, d.vTmin), d.vTmax)
+			vl, _ := d.tvLow.Value(tc)
+			vh, _ := d.tvHigh.Value(tc)
+			acc += vh - vl
+		}
+		d.add("volumes", nsPer(t0, n))
 	}
 	sinkF = acc
 
@@ -804,6 +815,7 @@ func summarise(cfg Config, cases []*caseData, rep *Report) {
 		l.DirectNs, l.TableNs, l.RPCBatchNs = agg("direct", lat), agg("table", lat), agg("rpc", lat)
 		l.LatentDirectNs, l.LatentTableNs = agg("latent_direct", lat), agg("latent_table", lat)
 		l.LatentRPCBatchNs, l.LatentEchoFloorNs = agg("latent_rpc", lat), agg("latent_echo", lat)
+		l.VolumeTablesNs = agg("volumes", lat)
 		l.TableRatio = l.LatentTableNs / l.TableNs
 		l.DirectRatio = l.LatentDirectNs / l.DirectNs
 		l.RPCRatio = l.LatentRPCBatchNs / l.RPCBatchNs
