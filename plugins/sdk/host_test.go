@@ -593,3 +593,12 @@ func TestHostStartFailureQuotesBackend(t *testing.T) {
 		t.Errorf("error spans lines: %q", err)
 	}
 }
+
+func TestHostRefusesUnknownStandardBackend(t *testing.T) {
+	h := NewHost(HostConfig{Logger: testLogger(t)}) // the default command: re-execute this binary
+	defer h.Close()
+	err := h.Start(context.Background(), BackendSpec{Name: "lab-fits"})
+	if err == nil || !strings.Contains(err.Error(), "not a standard backend") || !strings.Contains(err.Error(), "solid, vapor, volume") {
+		t.Fatalf("err = %v, want a refusal listing the standard backends", err)
+	}
+}

@@ -74,6 +74,10 @@ func (h *Host) newSupervisor(spec BackendSpec) (*supervisor, error) {
 		s.command = func() (*exec.Cmd, error) { return &exec.Cmd{Path: path, Args: []string{path}}, nil }
 	} else {
 		name := spec.Name
+		if _, ok := standardCurves[name]; !ok && h.cfg.Command == nil {
+			return nil, fmt.Errorf("sdk: %q is not a standard backend (standard: %s); a third-party backend needs a path and a sha256",
+				name, strings.Join(StandardNames(), ", "))
+		}
 		s.command = func() (*exec.Cmd, error) {
 			if h.cfg.Command != nil {
 				return h.cfg.Command(name)
