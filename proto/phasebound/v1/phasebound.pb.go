@@ -392,6 +392,12 @@ const (
 	Transform_TRANSFORM_LOG Transform = 2
 	// 1/x.
 	Transform_TRANSFORM_RECIPROCAL Transform = 3
+	// (1 - x/x_reference)^(1/6), for x <= x_reference (x only; x_reference is
+	// the table's field of that name, a critical temperature for phase-volume
+	// tables). It removes the infinite slope that saturated densities, series
+	// in (1 - T/Tc)^(1/3) or ^(1/6), have at the critical point. 1 - x/x_ref
+	// is computed in floating point exactly as written.
+	Transform_TRANSFORM_CRITICAL_ROOT Transform = 4
 )
 
 // Enum value maps for Transform.
@@ -401,12 +407,14 @@ var (
 		1: "TRANSFORM_IDENTITY",
 		2: "TRANSFORM_LOG",
 		3: "TRANSFORM_RECIPROCAL",
+		4: "TRANSFORM_CRITICAL_ROOT",
 	}
 	Transform_value = map[string]int32{
-		"TRANSFORM_UNSPECIFIED": 0,
-		"TRANSFORM_IDENTITY":    1,
-		"TRANSFORM_LOG":         2,
-		"TRANSFORM_RECIPROCAL":  3,
+		"TRANSFORM_UNSPECIFIED":   0,
+		"TRANSFORM_IDENTITY":      1,
+		"TRANSFORM_LOG":           2,
+		"TRANSFORM_RECIPROCAL":    3,
+		"TRANSFORM_CRITICAL_ROOT": 4,
 	}
 )
 
@@ -1828,7 +1836,10 @@ type ChebyshevTable struct {
 	XMin float64 `protobuf:"fixed64,6,opt,name=x_min,json=xMin,proto3" json:"x_min,omitempty"`
 	XMax float64 `protobuf:"fixed64,7,opt,name=x_max,json=xMax,proto3" json:"x_max,omitempty"`
 	// Measured maximum relative error against the source.
-	MaxRelError   float64 `protobuf:"fixed64,8,opt,name=max_rel_error,json=maxRelError,proto3" json:"max_rel_error,omitempty"`
+	MaxRelError float64 `protobuf:"fixed64,8,opt,name=max_rel_error,json=maxRelError,proto3" json:"max_rel_error,omitempty"`
+	// Reference abscissa of TRANSFORM_CRITICAL_ROOT (x_max <= x_reference);
+	// 0 (unset) there means x_max. Must be 0 with every other x transform.
+	XReference    float64 `protobuf:"fixed64,9,opt,name=x_reference,json=xReference,proto3" json:"x_reference,omitempty"`
 	unknownFields protoimpl.UnknownFields
 	sizeCache     protoimpl.SizeCache
 }
@@ -1915,6 +1926,13 @@ func (x *ChebyshevTable) GetXMax() float64 {
 func (x *ChebyshevTable) GetMaxRelError() float64 {
 	if x != nil {
 		return x.MaxRelError
+	}
+	return 0
+}
+
+func (x *ChebyshevTable) GetXReference() float64 {
+	if x != nil {
+		return x.XReference
 	}
 	return 0
 }
@@ -2348,7 +2366,7 @@ const file_phasebound_v1_phasebound_proto_rawDesc = "" +
 	"\x06status\x18\b \x03(\x0e2\x1a.phasebound.v1.PointStatusR\x06status\x121\n" +
 	"\x06errors\x18\t \x03(\v2\x19.phasebound.v1.PointErrorR\x06errors\x12'\n" +
 	"\x0fcatalog_version\x18\n" +
-	" \x01(\tR\x0ecatalogVersion\"\xaa\x02\n" +
+	" \x01(\tR\x0ecatalogVersion\"\xcb\x02\n" +
 	"\x0eChebyshevTable\x129\n" +
 	"\vx_transform\x18\x01 \x01(\x0e2\x18.phasebound.v1.TransformR\n" +
 	"xTransform\x129\n" +
@@ -2359,7 +2377,9 @@ const file_phasebound_v1_phasebound_proto_rawDesc = "" +
 	"\fcoefficients\x18\x05 \x03(\x01R\fcoefficients\x12\x13\n" +
 	"\x05x_min\x18\x06 \x01(\x01R\x04xMin\x12\x13\n" +
 	"\x05x_max\x18\a \x01(\x01R\x04xMax\x12\"\n" +
-	"\rmax_rel_error\x18\b \x01(\x01R\vmaxRelError\"\xa6\x03\n" +
+	"\rmax_rel_error\x18\b \x01(\x01R\vmaxRelError\x12\x1f\n" +
+	"\vx_reference\x18\t \x01(\x01R\n" +
+	"xReference\"\xa6\x03\n" +
 	"\fBranchTables\x12.\n" +
 	"\x05curve\x18\x01 \x01(\x0e2\x18.phasebound.v1.CurveKindR\x05curve\x12\x16\n" +
 	"\x06branch\x18\x02 \x01(\tR\x06branch\x128\n" +
@@ -2413,12 +2433,13 @@ const file_phasebound_v1_phasebound_proto_rawDesc = "" +
 	"\x1bPROVENANCE_KIND_UNSPECIFIED\x10\x00\x12\x1d\n" +
 	"\x19PROVENANCE_KIND_PUBLISHED\x10\x01\x12\x17\n" +
 	"\x13PROVENANCE_KIND_FIT\x10\x02\x12\x1c\n" +
-	"\x18PROVENANCE_KIND_INVENTED\x10\x03*k\n" +
+	"\x18PROVENANCE_KIND_INVENTED\x10\x03*\x88\x01\n" +
 	"\tTransform\x12\x19\n" +
 	"\x15TRANSFORM_UNSPECIFIED\x10\x00\x12\x16\n" +
 	"\x12TRANSFORM_IDENTITY\x10\x01\x12\x11\n" +
 	"\rTRANSFORM_LOG\x10\x02\x12\x18\n" +
-	"\x14TRANSFORM_RECIPROCAL\x10\x032\xf8\x04\n" +
+	"\x14TRANSFORM_RECIPROCAL\x10\x03\x12\x1b\n" +
+	"\x17TRANSFORM_CRITICAL_ROOT\x10\x042\xf8\x04\n" +
 	"\x0fBoundaryService\x12]\n" +
 	"\x0eListSubstances\x12$.phasebound.v1.ListSubstancesRequest\x1a%.phasebound.v1.ListSubstancesResponse\x12f\n" +
 	"\x11DescribeSubstance\x12'.phasebound.v1.DescribeSubstanceRequest\x1a(.phasebound.v1.DescribeSubstanceResponse\x12K\n" +
