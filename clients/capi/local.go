@@ -44,6 +44,8 @@ type localCurve struct {
 
 type localBranch struct {
 	name        string
+	pOfT, tOfP  *thermo.Table // tOfP nil when P(T) is not monotonic
+	rng         thermo.Range  // the table correlation's range
 	vLow, vHigh *thermo.Table // nil when unknown
 	// vTmin and vTmax bound both volume tables (they may stop a hair
 	// inside the branch's range, at a critical point).
@@ -111,7 +113,7 @@ func newTableSet(substance string, r *phaseboundpb.ExportTablesResponse) (*table
 		if err != nil {
 			return nil, fmt.Errorf("%s: %w", where, err)
 		}
-		lb := localBranch{name: bt.GetBranch()}
+		lb := localBranch{name: bt.GetBranch(), pOfT: pt, tOfP: tp, rng: corr.Range()}
 		if lb.vLow, err = loadProtoTable(bt.GetVolumeLowTPhase(), "temperature", "K"); err != nil {
 			return nil, fmt.Errorf("%s: low-T phase volume table: %w", where, err)
 		}
@@ -177,13 +179,27 @@ func (ts *tableSet) evaluate(kind thermo.CurveKind, branch string, byT bool, xs 
 			return 0, "", errors.New(strings.TrimPrefix(err.Error(), "thermo: "))
 		}
 	}
+	// With one branch to use (named, or the curve's only one), points
+	// inside its range go straight to its tables, as on the server.
+	fi := -1
+	if branch != "" {
+		fi, _ = lc.curve.BranchIndex(branch)
+	} else if len(lc.branches) == 1 {
+		fi = 0
+	}
 	nan := math.NaN()
 	for i, x := range xs {
 		var pt thermo.CurvePoint
 		var err error
-		if byT {
+		ok := false
+		if fi >= 0 {
+			pt, ok = lc.branches[fi].fastPoint(x, byT, fi)
+		}
+		switch {
+		case ok:
+		case byT:
 			pt, err = lc.curve.Pressure(x, opts)
-		} else {
+		default:
 			pt, err = lc.curve.Temperature(x, opts)
 		}
 		if err != nil {
@@ -220,6 +236,36 @@ func (ts *tableSet) evaluate(kind thermo.CurveKind, branch string, byT bool, xs 
 		}
 	}
 	return failed, first, nil
+}
+
+// fastPoint evaluates x on the branch's tables when x lies inside its
+// range and the tables can answer: the values thermo.Curve returns there
+// (P(T) from the P(T) table; T(P) from the T(P) table with the slope at T
+// clamped into the range). ok is false otherwise.
+func (b *localBranch) fastPoint(x float64, byT bool, bi int) (pt thermo.CurvePoint, ok bool) {
+	r := b.rng
+	if byT {
+		if !(x > 0 && x >= r.Tmin && x <= r.Tmax) {
+			return pt, false
+		}
+		p, d, err := b.pOfT.Eval(x)
+		if err != nil {
+			return pt, false
+		}
+		return thermo.CurvePoint{Temperature: x, Pressure: p, Slope: d, Branch: bi}, true
+	}
+	if b.tOfP == nil || !(x > 0 && x >= r.Pmin && x <= r.Pmax) {
+		return pt, false
+	}
+	t, _, err := b.tOfP.Eval(x)
+	if err != nil {
+		return pt, false
+	}
+	_, d, err := b.pOfT.Eval(math.Min(math.Max(t, r.Tmin), r.Tmax))
+	if err != nil {
+		return pt, false
+	}
+	return thermo.CurvePoint{Temperature: t, Pressure: x, Slope: d, Branch: bi}, true
 }
 
 func setAt(s []float64, i int, v float64) {

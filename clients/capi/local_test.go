@@ -302,3 +302,71 @@ func FuzzTableSet(f *testing.F) {
 		}
 	})
 }
+
+// TestFastPathMatchesCurve checks that the direct table evaluation of a
+// named or single branch gives exactly thermo.Curve's values.
+func TestFastPathMatchesCurve(t *testing.T) {
+	t.Parallel()
+	ts, err := newTableSet("water", testExport(t))
+	if err != nil {
+		t.Fatal(err)
+	}
+	lc := ts.curves[thermo.Saturation]
+	for i := 0; i <= 1000; i++ {
+		x := 273.15 + (647.096-273.15)*float64(i)/1000
+		p := 611.2 * math.Pow(22.064e6/611.2, float64(i)/1000)
+		for _, tc := range []struct {
+			byT bool
+			v   float64
+		}{{true, x}, {false, p}} {
+			fast, ok := lc.branches[0].fastPoint(tc.v, tc.byT, 0)
+			var slow thermo.CurvePoint
+			var err error
+			if tc.byT {
+				slow, err = lc.curve.Pressure(tc.v, thermo.CurveOptions{})
+			} else {
+				slow, err = lc.curve.Temperature(tc.v, thermo.CurveOptions{})
+			}
+			if ok != (err == nil) {
+				t.Fatalf("byT %v at %g: fast ok %v, curve error %v", tc.byT, tc.v, ok, err)
+			}
+			if ok && fast != slow {
+				t.Fatalf("byT %v at %g: fast %+v, curve %+v", tc.byT, tc.v, fast, slow)
+			}
+		}
+	}
+}
+
+var benchSink float64
+
+// BenchmarkLocalEvaluate is the library's per-cell path (without the cgo
+// call): P(T), slope and latent heat for a batch of 1000 cells.
+func BenchmarkLocalEvaluate(b *testing.B) {
+	ts, err := newTableSet("water", testExport(b))
+	if err != nil {
+		b.Fatal(err)
+	}
+	const n = 1000
+	xs := make([]float64, n)
+	for i := range xs {
+		xs[i] = 274 + 370*float64((i*389)%n)/n
+	}
+	out := outputs{P: make([]float64, n), D: make([]float64, n), Status: make([]int32, n)}
+	for _, latent := range []bool{false, true} {
+		name := "pressure"
+		if latent {
+			name = "latent"
+			out.Latent = make([]float64, n)
+		}
+		b.Run(name, func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				if failed, first, err := ts.evaluate(thermo.Saturation, "", true, xs, out); err != nil || failed > 0 {
+					b.Fatal(err, first)
+				}
+				benchSink += out.P[0]
+			}
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/n, "ns/point")
+		})
+	}
+}
