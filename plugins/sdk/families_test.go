@@ -29,6 +29,7 @@ import (
 const (
 	backendEnv = "PHASEBOUND_SDK_TEST_BACKEND" // serve the test backend of this name
 	hostEnv    = "PHASEBOUND_SDK_TEST_HOST"    // act as a host that starts a backend and waits; "watcher": without the parent-death signal
+	markEnv    = "PHASEBOUND_SDK_TEST_MARK"    // in a backend: test-sleep creates this file when a call starts sleeping
 )
 
 func TestMain(m *testing.M) {
@@ -142,13 +143,23 @@ type sleeper struct {
 	r thermo.Range
 }
 
-func (s sleeper) Pressure(t float64) (float64, error)    { time.Sleep(s.d); return t, nil }
+func (s sleeper) Pressure(t float64) (float64, error)    { s.sleep(); return t, nil }
 func (s sleeper) Slope(float64) (float64, error)         { return 1, nil }
-func (s sleeper) Temperature(p float64) (float64, error) { time.Sleep(s.d); return p, nil }
+func (s sleeper) Temperature(p float64) (float64, error) { s.sleep(); return p, nil }
 func (s sleeper) Range() thermo.Range                    { return s.r }
 func (s sleeper) PressureSlope(t float64) (float64, float64, error) {
-	time.Sleep(s.d)
+	s.sleep()
 	return t, 1, nil
+}
+
+// sleep marks the call as in flight (the file named by markEnv, when set)
+// and sleeps, so a test can wait for the call to reach the backend instead
+// of guessing a delay.
+func (s sleeper) sleep() {
+	if mark := os.Getenv(markEnv); mark != "" {
+		_ = os.WriteFile(mark, nil, 0o600)
+	}
+	time.Sleep(s.d)
 }
 
 // panicFamily builds fine and panics on evaluation.

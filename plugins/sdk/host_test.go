@@ -221,7 +221,17 @@ func TestHostThirdPartyBackend(t *testing.T) {
 // the supervisor starts a new process, and calls succeed again.
 func TestHostRestartsKilledBackend(t *testing.T) {
 	var restarted atomic.Int64
-	h := newTestHost(t, HostConfig{OnRestart: func(string) { restarted.Add(1) }})
+	// The backend marks the sleeping call's arrival in a file, so the kill
+	// lands while the call is certainly in flight.
+	mark := filepath.Join(t.TempDir(), "sleeping")
+	command := func(name string) (*exec.Cmd, error) {
+		cmd, err := testCommand(name)
+		if err == nil {
+			cmd.Env = append(cmd.Env, markEnv+"="+mark)
+		}
+		return cmd, err
+	}
+	h := newTestHost(t, HostConfig{Command: command, OnRestart: func(string) { restarted.Add(1) }})
 	ctx := context.Background()
 	if err := h.Start(ctx, BackendSpec{Name: "fragile"}); err != nil {
 		t.Fatal(err)
@@ -239,7 +249,9 @@ func TestHostRestartsKilledBackend(t *testing.T) {
 			Tmin: 1, Tmax: 1000, Op: OpPressure, Values: []float64{300}})
 		done <- outcome{res, err}
 	}()
-	time.Sleep(200 * time.Millisecond) // let the call reach the backend
+	if !waitFor(60*time.Second, func() bool { _, err := os.Stat(mark); return err == nil }) {
+		t.Fatal("the sleeping call did not reach the backend")
+	}
 	killed := time.Now()
 	if err := syscall.Kill(pid, syscall.SIGKILL); err != nil {
 		t.Fatal(err)
@@ -267,7 +279,7 @@ func TestHostRestartsKilledBackend(t *testing.T) {
 	if err != nil || res.Results[0] != 13500 {
 		t.Fatalf("after restart: %+v, %v", res, err)
 	}
-	if !waitFor(10*time.Second, func() bool { return processGone(pid) }) {
+	if !waitFor(60*time.Second, func() bool { return processGone(pid) }) {
 		t.Errorf("killed backend %d was not reaped", pid)
 	}
 	if entries, err := os.ReadDir(h.socketDir); err != nil || len(entries) != 1 {
@@ -354,7 +366,7 @@ func testBackendDiesWithHost(t *testing.T, mode string) {
 		t.Fatal(err)
 	}
 	_ = host.Wait()
-	if !waitFor(20*time.Second, func() bool { return processGone(pid) }) {
+	if !waitFor(60*time.Second, func() bool { return processGone(pid) }) {
 		_ = syscall.Kill(pid, syscall.SIGKILL)
 		t.Fatalf("backend %d outlived its host", pid)
 	}
@@ -395,7 +407,7 @@ func TestHostUnavailableWhileRestarting(t *testing.T) {
 	if err := syscall.Kill(inst.pid, syscall.SIGKILL); err != nil {
 		t.Fatal(err)
 	}
-	if !waitFor(10*time.Second, inst.isDead) {
+	if !waitFor(60*time.Second, inst.isDead) {
 		t.Fatal("death not detected")
 	}
 	req := EvalRequest{Family: "test-line", Params: lineParams, Tmin: 200, Tmax: 300, Op: OpPressure, Values: []float64{250}}
@@ -417,7 +429,9 @@ func TestHostDeadline(t *testing.T) {
 	if err := h.Start(context.Background(), BackendSpec{Name: "patient"}); err != nil {
 		t.Fatal(err)
 	}
-	ctx, cancel := context.WithTimeout(context.Background(), 100*time.Millisecond)
+	// 2 s: long enough for the call to reach the backend on a loaded
+	// machine, far shorter than the 30 s the backend sleeps.
+	ctx, cancel := context.WithTimeout(context.Background(), 2*time.Second)
 	defer cancel()
 	_, err := h.Evaluate(ctx, "patient", EvalRequest{Family: "test-sleep", Params: thermo.Params{"seconds": {30}},
 		Tmin: 1, Tmax: 1000, Op: OpPressure, Values: []float64{300}})
@@ -473,7 +487,7 @@ func TestHostRelaysBackendLogs(t *testing.T) {
 	}
 	// The panicking family makes the backend log an error.
 	_, _ = h.Evaluate(context.Background(), "chatty", EvalRequest{Family: "test-panic", Op: OpPressure, Values: []float64{1}})
-	if !waitFor(10*time.Second, func() bool { return capture.find(slog.LevelError, "family panicked") }) {
+	if !waitFor(60*time.Second, func() bool { return capture.find(slog.LevelError, "family panicked") }) {
 		t.Error("the backend's error log line did not reach the host logger")
 	}
 }
@@ -526,8 +540,19 @@ func TestHostNeverReturnsWrongValues(t *testing.T) {
 			}
 		})
 	}
-	for kill := 1; kill <= 2; kill++ {
-		time.Sleep(150 * time.Millisecond)
+	// Before each kill and after the last restart, wait until the callers
+	// have completed a few more good calls (bounded), rather than for a
+	// fixed time that a loaded machine may not fill. A caller's error ends
+	// the wait at once and is reported below.
+	moreOK := func() bool {
+		from := ok.Load()
+		return waitFor(60*time.Second, func() bool { return ok.Load() >= from+3 || len(errs) > 0 }) && len(errs) == 0
+	}
+	progressed := true
+	for kill := 1; kill <= 2 && progressed; kill++ {
+		if progressed = moreOK(); !progressed {
+			break
+		}
 		if err := syscall.Kill(currentPID(t, h, "hammered"), syscall.SIGKILL); err != nil {
 			t.Fatal(err)
 		}
@@ -535,12 +560,19 @@ func TestHostNeverReturnsWrongValues(t *testing.T) {
 			t.Fatalf("not restarted after kill %d", kill)
 		}
 	}
-	time.Sleep(150 * time.Millisecond)
+	if progressed {
+		progressed = moreOK()
+	}
 	close(stop)
 	wg.Wait()
 	close(errs)
+	failed := false
 	for err := range errs {
 		t.Error(err)
+		failed = true
+	}
+	if !progressed && !failed {
+		t.Error("callers stopped completing calls within 60 s")
 	}
 	if ok.Load() == 0 {
 		t.Error("no call succeeded")
