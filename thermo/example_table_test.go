@@ -70,5 +70,5 @@ func ExampleLoadTable() {
 	fmt.Println(err)
 	// Output:
 	// 4 4
-	// thermo: bad parameter: table: transforms Transform(9)/Transform(0) (valid: identity, log, reciprocal)
+	// thermo: bad parameter: table: transforms Transform(9)/Transform(0) (valid: identity, log, reciprocal; critical-root for x only)
 }

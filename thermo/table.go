@@ -41,9 +41,34 @@ const (
 	TransformIdentity   Transform = 1 // u = x
 	TransformLog        Transform = 2 // u = ln x; x > 0
 	TransformReciprocal Transform = 3 // u = 1/x; x ≠ 0
+	// TransformCriticalRoot is u = (1 − x/x_ref)^(1/6) for x ≤ x_ref, with
+	// x_ref > 0 the table's reference abscissa (TableData.XReference, a
+	// critical temperature). It applies to x only.
+	//
+	// Saturated densities are series in τ = 1 − T/Tc with exponents that
+	// are multiples of 1/3 (IAPWS SR1-86 liquid: τ^(1/3), τ^(2/3), …) or of
+	// 1/6 (its vapour: τ^(2/6), τ^(4/6), …; Span–Wagner carbon dioxide:
+	// τ^0.5, τ^(7/3), …), so ρ(T) and v(T) have an infinite slope at Tc that
+	// no polynomial in T follows. In u = τ^(1/6) every such term is a
+	// power u^j with integer j, and v is an analytic function of u;
+	// exponents off that grid (Span–Wagner's τ^0.34 = u^2.04) keep a
+	// bounded slope and curvature in u, which the adaptive splitting
+	// resolves with a few short segments at u = 0. The root index 6 is the
+	// least common multiple of 3 and 6, fixed so that a table carries one
+	// number (x_ref) for its transform.
+	//
+	// 1 − x/x_ref is computed in floating point exactly as written, the
+	// way the density equations compute τ, so a table follows its source
+	// down to the last ulps of T below x_ref. dy/dx is infinite at
+	// x = x_ref: Eval returns ±Inf there (the sign of the slope just
+	// below), or 0 when the table is flat at that end.
+	TransformCriticalRoot Transform = 4
 )
 
-// String returns "identity", "log" or "reciprocal".
+// criticalRootIndex is k in u = (1 − x/x_ref)^(1/k) of TransformCriticalRoot.
+const criticalRootIndex = 6
+
+// String returns "identity", "log", "reciprocal" or "critical-root".
 func (f Transform) String() string {
 	switch f {
 	case TransformIdentity:
@@ -52,36 +77,69 @@ func (f Transform) String() string {
 		return "log"
 	case TransformReciprocal:
 		return "reciprocal"
+	case TransformCriticalRoot:
+		return "critical-root"
 	}
 	return fmt.Sprintf("Transform(%d)", int32(f))
 }
 
+// valid reports whether f may transform y (and x).
 func (f Transform) valid() bool {
 	return f == TransformIdentity || f == TransformLog || f == TransformReciprocal
 }
 
-func (f Transform) forward(x float64) float64 {
+// validX reports whether f may transform x.
+func (f Transform) validX() bool { return f.valid() || f == TransformCriticalRoot }
+
+// forward maps x to u for the transforms without a reference (NaN for
+// TransformCriticalRoot; see forwardRef).
+func (f Transform) forward(x float64) float64 { return f.forwardRef(x, math.NaN()) }
+
+// inverse maps u back to x for the transforms without a reference.
+func (f Transform) inverse(u float64) float64 { return f.inverseRef(u, math.NaN()) }
+
+// accepts reports whether x is in the domain of a transform without a
+// reference.
+func (f Transform) accepts(x float64) bool { return f.acceptsRef(x, math.NaN()) }
+
+// forwardRef maps x to u; ref is x_ref of TransformCriticalRoot.
+func (f Transform) forwardRef(x, ref float64) float64 {
 	switch f {
 	case TransformLog:
 		return math.Log(x)
 	case TransformReciprocal:
 		return 1 / x
+	case TransformCriticalRoot:
+		return criticalRoot(1 - x/ref)
 	}
 	return x
 }
 
-func (f Transform) inverse(u float64) float64 {
+// criticalRoot returns τ^(1/6) (0 for τ ≤ 0, NaN for NaN).
+func criticalRoot(tau float64) float64 {
+	if tau <= 0 {
+		return 0
+	}
+	return math.Cbrt(math.Sqrt(tau))
+}
+
+// inverseRef maps u back to x; ref is x_ref of TransformCriticalRoot.
+func (f Transform) inverseRef(u, ref float64) float64 {
 	switch f {
 	case TransformLog:
 		return math.Exp(u)
 	case TransformReciprocal:
 		return 1 / u
+	case TransformCriticalRoot:
+		u2 := u * u
+		return ref * (1 - u2*u2*u2)
 	}
 	return u
 }
 
-// accepts reports whether x is in the transform's domain.
-func (f Transform) accepts(x float64) bool {
+// acceptsRef reports whether x is in the transform's domain; ref is x_ref
+// of TransformCriticalRoot.
+func (f Transform) acceptsRef(x, ref float64) bool {
 	if math.IsNaN(x) || math.IsInf(x, 0) {
 		return false
 	}
@@ -90,6 +148,8 @@ func (f Transform) accepts(x float64) bool {
 		return x > 0
 	case TransformReciprocal:
 		return x != 0
+	case TransformCriticalRoot:
+		return ref > 0 && !math.IsInf(ref, 0) && x <= ref
 	}
 	return true
 }
@@ -103,6 +163,7 @@ func (f Transform) accepts(x float64) bool {
 //	Coeffs                 ↔ coefficients
 //	XMin, XMax             ↔ x_min, x_max
 //	MaxRelError            ↔ max_rel_error
+//	XReference             ↔ x_reference
 //
 // With u = XTransform(x) and Y = YTransform(y), segment i covers
 // Breaks[i] ≤ u ≤ Breaks[i+1] and there
@@ -119,6 +180,10 @@ type TableData struct {
 	Coeffs                 []float64
 	XMin, XMax             float64 // raw domain of x (K or Pa)
 	MaxRelError            float64 // measured maximum relative error against the source
+	// XReference is x_ref of TransformCriticalRoot, with XMax ≤ XReference;
+	// 0 there means XMax (the usual case: a table that ends at the critical
+	// point). It must be 0 with every other x transform.
+	XReference float64
 }
 
 // TableOptions controls BuildTable. The zero value builds an
@@ -140,6 +205,10 @@ type TableOptions struct {
 	// Quantity and Unit name x in errors ("temperature", "K"); zero means
 	// "x" and no unit.
 	Quantity, Unit string
+	// XReference is x_ref of TransformCriticalRoot (a critical temperature),
+	// at least xmax; zero means xmax. It must be zero with the other x
+	// transforms.
+	XReference float64
 }
 
 // SampleFunc evaluates the source of a table at a batch of raw abscissae:
@@ -180,6 +249,10 @@ type Table struct {
 	cd         []float64
 	xmin, xmax float64
 	maxRel     float64
+	// xref is x_ref of TransformCriticalRoot (NaN for the others) and
+	// refSlope the dy/dx Eval returns at x = xref: ±Inf, or 0 where the
+	// table is flat at that end.
+	xref, refSlope float64
 
 	// Uniform index over [breaks[0], breaks[n]]: bins[j] is the segment
 	// holding u0 + j/binScale, for j = 0…nb (one entry past the last bin).
@@ -233,11 +306,34 @@ func BuildTable(sample SampleFunc, xmin, xmax float64, opts TableOptions) (*Tabl
 	if !(xmin < xmax) || math.IsInf(xmin, 0) || math.IsInf(xmax, 0) {
 		return nil, fmt.Errorf("%w: table domain [%g, %g] must be finite with min < max", ErrBadParam, xmin, xmax)
 	}
-	if !o.XTransform.accepts(xmin) || !o.XTransform.accepts(xmax) || (o.XTransform == TransformReciprocal && xmin < 0 && xmax > 0) {
+	ref, err := tableReference(o.XTransform, o.XReference, xmax)
+	if err != nil {
+		return nil, err
+	}
+	if !o.XTransform.acceptsRef(xmin, ref) || !o.XTransform.acceptsRef(xmax, ref) || (o.XTransform == TransformReciprocal && xmin < 0 && xmax > 0) {
 		return nil, fmt.Errorf("%w: table domain [%g, %g] is outside the domain of the %v transform", ErrBadParam, xmin, xmax, o.XTransform)
 	}
-	b := tableBuilder{sample: sample, o: o, xmin: xmin, xmax: xmax}
+	b := tableBuilder{sample: sample, o: o, xmin: xmin, xmax: xmax, ref: ref}
 	return b.build()
+}
+
+// tableReference returns x_ref of a TransformCriticalRoot table (ref, or
+// xmax when ref is 0), checking that it is finite, positive and at least
+// xmax; for the other transforms ref must be 0 and the result is NaN.
+func tableReference(xt Transform, ref, xmax float64) (float64, error) {
+	if xt != TransformCriticalRoot {
+		if ref != 0 {
+			return 0, fmt.Errorf("%w: table x reference %g given for the %v transform, which takes none (only critical-root does)", ErrBadParam, ref, xt)
+		}
+		return math.NaN(), nil
+	}
+	if ref == 0 {
+		ref = xmax
+	}
+	if !(ref > 0) || math.IsInf(ref, 0) || !(xmax <= ref) {
+		return 0, fmt.Errorf("%w: table x reference %g of the critical-root transform must be finite, > 0 and ≥ x_max = %g", ErrBadParam, ref, xmax)
+	}
+	return ref, nil
 }
 
 func tableDefaults(o TableOptions) (TableOptions, error) {
@@ -247,8 +343,8 @@ func tableDefaults(o TableOptions) (TableOptions, error) {
 	if o.YTransform == 0 {
 		o.YTransform = TransformIdentity
 	}
-	if !o.XTransform.valid() || !o.YTransform.valid() {
-		return o, fmt.Errorf("%w: table transforms %v/%v (valid: identity, log, reciprocal)", ErrBadParam, o.XTransform, o.YTransform)
+	if !o.XTransform.validX() || !o.YTransform.valid() {
+		return o, fmt.Errorf("%w: table transforms %v/%v (valid: identity, log, reciprocal; critical-root for x only)", ErrBadParam, o.XTransform, o.YTransform)
 	}
 	if o.Tolerance == 0 {
 		o.Tolerance = DefaultTableTolerance
@@ -285,19 +381,23 @@ type tableBuilder struct {
 	sample     SampleFunc
 	o          TableOptions
 	xmin, xmax float64
+	ref        float64 // x_ref of TransformCriticalRoot, else NaN
 }
+
+// u maps a raw abscissa through the x transform.
+func (b *tableBuilder) u(x float64) float64 { return b.o.XTransform.forwardRef(x, b.ref) }
 
 // rawX maps a transformed abscissa back to x, kept inside [xmin, xmax] so
 // that rounding never asks the source outside its range.
 func (b *tableBuilder) rawX(u float64) float64 {
-	x := b.o.XTransform.inverse(u)
+	x := b.o.XTransform.inverseRef(u, b.ref)
 	return math.Min(math.Max(x, b.xmin), b.xmax)
 }
 
 func (b *tableBuilder) build() (*Table, error) {
 	n := b.o.Nodes
 	nc := TableCheckDensity*n + 1
-	ua, ub := b.o.XTransform.forward(b.xmin), b.o.XTransform.forward(b.xmax)
+	ua, ub := b.u(b.xmin), b.u(b.xmax)
 	if ua > ub {
 		ua, ub = ub, ua
 	}
@@ -380,6 +480,9 @@ func (b *tableBuilder) build() (*Table, error) {
 	all := append(done, failed...)
 	sort.Slice(all, func(i, j int) bool { return all[i].a < all[j].a })
 	d := TableData{XTransform: b.o.XTransform, YTransform: b.o.YTransform, XMin: b.xmin, XMax: b.xmax}
+	if b.o.XTransform == TransformCriticalRoot {
+		d.XReference = b.ref
+	}
 	d.Breaks = make([]float64, 0, len(all)+1)
 	d.Offsets = make([]uint32, 0, len(all)+1)
 	d.Breaks = append(d.Breaks, all[0].a)
@@ -402,8 +505,7 @@ func (b *tableBuilder) build() (*Table, error) {
 
 // endX returns the raw x at a global end of the transformed domain exactly.
 func (b *tableBuilder) endX(u float64) float64 {
-	ua := b.o.XTransform.forward(b.xmin)
-	if u == ua {
+	if u == b.u(b.xmin) {
 		return b.xmin
 	}
 	return b.xmax
@@ -433,11 +535,20 @@ func (b *tableBuilder) fit(s *tableSegment, x, y []float64, cosm []float64) {
 	for k, v := range y {
 		yt[k] = b.o.YTransform.forward(v)
 		scale = math.Min(scale, math.Abs(yt[k]))
-		u := b.o.XTransform.forward(x[k])
+		u := b.u(x[k])
 		sk[k] = ((u - s.a) - (s.b - u)) * inv
 	}
 	if b.o.YTransform == TransformLog {
 		scale = 1 // an absolute error in ln y is a relative error in y
+	}
+	if b.o.XTransform == TransformCriticalRoot {
+		// Next to x_ref the float64 grid of x is coarse in u (u = τ^(1/6):
+		// one ulp of T near 647 K moves u by several per cent where
+		// u < 0.005), so nodes land far from their ideal positions or on
+		// top of each other, and the refinement below would not
+		// converge: interpolate the distinct positions directly.
+		b.truncate(s, chebSolve(sk, yt), scale)
+		return
 	}
 	c := make([]float64, n)
 	r := append([]float64(nil), yt...)
@@ -457,8 +568,15 @@ func (b *tableBuilder) fit(s *tableSegment, x, y []float64, cosm []float64) {
 			r[k] = yt[k] - chebValue(c, sk[k])
 		}
 	}
+	b.truncate(s, c, scale)
+}
+
+// truncate stores the coefficients c in s without the trailing ones whose
+// summed magnitude stays below a tenth of the tolerance (relative to
+// scale, the smallest |Y| of the segment).
+func (b *tableBuilder) truncate(s *tableSegment, c []float64, scale float64) {
 	budget := tableTruncateShare * b.o.Tolerance * scale
-	m := n
+	m := len(c)
 	var dropped float64
 	for m > 2 && dropped+math.Abs(c[m-1]) <= budget {
 		dropped += math.Abs(c[m-1])
@@ -467,13 +585,90 @@ func (b *tableBuilder) fit(s *tableSegment, x, y []float64, cosm []float64) {
 	s.coeffs = c[:m:m]
 }
 
+// chebMinGap is the smallest distance in s ∈ [−1, 1] between two
+// positions that chebSolve interpolates separately; closer positions are
+// merged (the first is kept), since a difference quotient over a shorter
+// distance would amplify the rounding of y beyond a table tolerance.
+// Chebyshev nodes of a segment (at most 64) are ten times farther apart.
+const chebMinGap = 1e-4
+
+// chebSolve returns the coefficients of the polynomial Σ c_k T_k(s) that
+// interpolates y at the positions s (Gaussian elimination with partial
+// pivoting on the Chebyshev–Vandermonde matrix). Positions closer than
+// chebMinGap count once, so the degree is the number of distinct
+// positions less one.
+func chebSolve(s, y []float64) []float64 {
+	idx := make([]int, len(s))
+	for i := range idx {
+		idx[i] = i
+	}
+	sort.Slice(idx, func(a, b int) bool { return s[idx[a]] < s[idx[b]] })
+	var ps, py []float64
+	for _, i := range idx {
+		if len(ps) > 0 && s[i]-ps[len(ps)-1] < chebMinGap {
+			continue
+		}
+		ps = append(ps, s[i])
+		py = append(py, y[i])
+	}
+	m := len(ps)
+	if m == 0 {
+		return []float64{0}
+	}
+	a := make([]float64, m*m) // row j: T_0(s_j) … T_{m−1}(s_j)
+	for j, v := range ps {
+		row := a[j*m : (j+1)*m]
+		row[0] = 1
+		if m > 1 {
+			row[1] = v
+		}
+		for k := 2; k < m; k++ {
+			row[k] = 2*v*row[k-1] - row[k-2]
+		}
+	}
+	for col := 0; col < m; col++ {
+		p := col
+		for r := col + 1; r < m; r++ {
+			if math.Abs(a[r*m+col]) > math.Abs(a[p*m+col]) {
+				p = r
+			}
+		}
+		if p != col {
+			for k := 0; k < m; k++ {
+				a[p*m+k], a[col*m+k] = a[col*m+k], a[p*m+k]
+			}
+			py[p], py[col] = py[col], py[p]
+		}
+		piv := a[col*m+col]
+		for r := col + 1; r < m; r++ {
+			f := a[r*m+col] / piv
+			if f == 0 {
+				continue
+			}
+			for k := col; k < m; k++ {
+				a[r*m+k] -= f * a[col*m+k]
+			}
+			py[r] -= f * py[col]
+		}
+	}
+	c := make([]float64, m)
+	for j := m - 1; j >= 0; j-- {
+		sum := py[j]
+		for k := j + 1; k < m; k++ {
+			sum -= a[j*m+k] * c[k]
+		}
+		c[j] = sum / a[j*m+j]
+	}
+	return c
+}
+
 // measure returns the maximum relative error of segment s on its check grid.
 func (b *tableBuilder) measure(s *tableSegment, x, y []float64) float64 {
 	inv := 1 / (s.b - s.a)
 	cd := chebInterleave(nil, s.coeffs, 2*inv)
 	var worst float64
 	for i, xv := range x {
-		u := b.o.XTransform.forward(xv)
+		u := b.u(xv)
 		yy, _ := chebEval(cd, ((u-s.a)-(s.b-u))*inv)
 		got := b.o.YTransform.inverse(yy)
 		e := math.Abs(got - y[i])
@@ -583,13 +778,20 @@ func newTable(d TableData, quantity, unit string) (*Table, error) {
 	bad := func(format string, a ...any) error {
 		return fmt.Errorf("%w: table: %s", ErrBadParam, fmt.Sprintf(format, a...))
 	}
-	if !d.XTransform.valid() || !d.YTransform.valid() {
-		return nil, bad("transforms %v/%v (valid: identity, log, reciprocal)", d.XTransform, d.YTransform)
+	if !d.XTransform.validX() || !d.YTransform.valid() {
+		return nil, bad("transforms %v/%v (valid: identity, log, reciprocal; critical-root for x only)", d.XTransform, d.YTransform)
 	}
 	if !(d.XMin < d.XMax) || math.IsInf(d.XMin, 0) || math.IsInf(d.XMax, 0) {
 		return nil, bad("domain [%g, %g] must be finite with x_min < x_max", d.XMin, d.XMax)
 	}
-	if !d.XTransform.accepts(d.XMin) || !d.XTransform.accepts(d.XMax) || (d.XTransform == TransformReciprocal && d.XMin < 0 && d.XMax > 0) {
+	ref, err := tableReference(d.XTransform, d.XReference, d.XMax)
+	if err != nil {
+		if d.XTransform == TransformCriticalRoot {
+			return nil, bad("x_reference %g of the critical-root transform must be finite, > 0 and ≥ x_max = %g (0 means x_max)", d.XReference, d.XMax)
+		}
+		return nil, bad("x_reference %g given for the %v transform, which takes none (only critical-root does)", d.XReference, d.XTransform)
+	}
+	if !d.XTransform.acceptsRef(d.XMin, ref) || !d.XTransform.acceptsRef(d.XMax, ref) || (d.XTransform == TransformReciprocal && d.XMin < 0 && d.XMax > 0) {
 		return nil, bad("domain [%g, %g] outside the %v transform's domain", d.XMin, d.XMax, d.XTransform)
 	}
 	nseg := len(d.Breaks) - 1
@@ -629,7 +831,7 @@ func newTable(d TableData, quantity, unit string) (*Table, error) {
 	if math.IsNaN(d.MaxRelError) || math.IsInf(d.MaxRelError, 0) || d.MaxRelError < 0 {
 		return nil, bad("max_rel_error %v must be finite and ≥ 0", d.MaxRelError)
 	}
-	ua, ub := d.XTransform.forward(d.XMin), d.XTransform.forward(d.XMax)
+	ua, ub := d.XTransform.forwardRef(d.XMin, ref), d.XTransform.forwardRef(d.XMax, ref)
 	if ua > ub {
 		ua, ub = ub, ua
 	}
@@ -648,6 +850,7 @@ func newTable(d TableData, quantity, unit string) (*Table, error) {
 		coeffs:   append([]float64(nil), d.Coeffs...),
 		invWidth: make([]float64, nseg),
 		xmin:     d.XMin, xmax: d.XMax,
+		xref:     ref,
 		maxRel:   d.MaxRelError,
 		quantity: quantity, unit: unit,
 	}
@@ -669,6 +872,9 @@ func newTable(d TableData, quantity, unit string) (*Table, error) {
 	if nb < 1 {
 		nb = 1
 	}
+	if t.xt == TransformCriticalRoot && t.xmax == t.xref {
+		t.refSlope = t.slopeAtReference()
+	}
 	t.u0 = t.breaks[0]
 	t.binScale = float64(nb) / full
 	t.bins = make([]int32, nb+1)
@@ -683,9 +889,31 @@ func newTable(d TableData, quantity, unit string) (*Table, error) {
 	return t, nil
 }
 
+// slopeAtReference returns dy/dx at x = x_ref of a TransformCriticalRoot
+// table that reaches x_ref (u = 0): du/dx is −∞ there, so the slope is
+// −∞ where y rises with u over the first segment [0, u₁] (falls with x),
+// +∞ where it falls, and 0 where the table is flat there.
+func (t *Table) slopeAtReference() float64 {
+	c := t.coeffs[t.offsets[0]:t.offsets[1]]
+	s0 := -(t.breaks[0] + t.breaks[1]) * t.invWidth[0] // s at u = 0
+	y0, y1 := t.yt.inverse(chebValue(c, s0)), t.yt.inverse(chebValue(c, 1))
+	switch {
+	case y1 > y0:
+		return math.Inf(-1)
+	case y1 < y0:
+		return math.Inf(1)
+	}
+	return 0
+}
+
 // Data returns the exported representation (a deep copy).
 func (t *Table) Data() TableData {
+	ref := 0.0
+	if t.xt == TransformCriticalRoot {
+		ref = t.xref
+	}
 	return TableData{
+		XReference: ref,
 		XTransform: t.xt, YTransform: t.yt,
 		Breaks:      append([]float64(nil), t.breaks...),
 		Offsets:     append([]uint32(nil), t.offsets...),
@@ -725,6 +953,16 @@ func (t *Table) Eval(x float64) (y, dydx float64, err error) {
 	case TransformReciprocal:
 		u = 1 / x
 		dudx = -u * u
+	case TransformCriticalRoot:
+		// u = τ^(1/6), du/dx = −u/(6·x_ref·τ); −∞ at τ = 0 (x = x_ref),
+		// where the slope is t.refSlope.
+		tau := 1 - x/t.xref
+		if tau > 0 {
+			u = math.Cbrt(math.Sqrt(tau))
+			dudx = -u / (criticalRootIndex * t.xref * tau)
+		} else {
+			dudx = math.Inf(-1)
+		}
 	default:
 		u, dudx = x, 1
 	}
@@ -775,6 +1013,11 @@ func (t *Table) Eval(x float64) (y, dydx float64, err error) {
 		}
 		yy, dyu = ye+yo, de+do
 	}
+	if math.IsInf(dudx, 0) {
+		// x = x_ref of a critical-root table: the slope is infinite (or 0
+		// on a flat table), never the NaN of 0·∞.
+		return t.yt.inverse(yy), t.refSlope, nil
+	}
 	switch t.yt {
 	case TransformLog:
 		y = math.Exp(yy)
@@ -824,7 +1067,7 @@ func (t *Table) domainError(x float64) error {
 	if math.IsNaN(x) || math.IsInf(x, 0) {
 		return &InputError{Quantity: t.quantity, Value: x, Reason: "must be a finite number"}
 	}
-	if x <= 0 && (t.unit == "K" || t.unit == "Pa" || t.xt != TransformIdentity) {
+	if x <= 0 && (t.unit == "K" || t.unit == "Pa" || t.xt == TransformLog || t.xt == TransformReciprocal) {
 		return &InputError{Quantity: t.quantity, Value: x, Reason: "must be > 0" + tableUnitSuffix(t.unit)}
 	}
 	return &RangeError{Quantity: t.quantity, Value: x, Min: t.xmin, Max: t.xmax, Unit: t.unit}
