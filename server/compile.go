@@ -59,8 +59,9 @@ type branch struct {
 	vHigh   *thermo.Table
 	vLowBE  string // backends of the volume correlations
 	vHighBE string
-	// vTmin and vTmax bound the volume tables (a hair inside the branch
-	// range when a volume is singular at an end); lookups are clamped.
+	// vTmin and vTmax bound the volume tables (the branch range; a hair
+	// inside it when a volume could not be evaluated at an end); lookups
+	// are clamped.
 	vTmin, vTmax float64
 	maxErr       float64 // largest measured error of pOfT and tOfP
 	buildS       float64 // seconds spent building this branch's tables (metrics)
@@ -117,7 +118,7 @@ func (s *Server) compile(ctx context.Context, cat *catalog.Catalog) (*snapshot, 
 				j.err = ctx.Err()
 				return
 			}
-			j.out, j.n, j.err = s.compileBranch(ctx, j.cv, j.cb, third)
+			j.out, j.n, j.err = s.compileBranch(ctx, j.cv, j.cb, criticalEnd(j.cv.kind, j.cb, j.sub.Critical), third)
 			if j.err != nil {
 				cancel()
 			}
@@ -237,8 +238,9 @@ func (sp sampler) fill(op sdk.Op) thermo.SampleFunc {
 // buildTable builds a table to the server's tolerance. A table that only
 // reaches MaxTableError is accepted with a warning; worse fails, except for
 // volume tables (lenient), whose best table is kept and its measured error
-// reported: saturated densities have an infinite slope at the critical
-// point that no polynomial follows to 1e-10.
+// reported. (Saturated densities have an infinite slope at the critical
+// point that no polynomial in T follows; volumeTable tabulates them against
+// the critical-root transform of T, in which they reach the tolerance.)
 func (s *Server) buildTable(f thermo.SampleFunc, xmin, xmax float64, o thermo.TableOptions, what string, lenient bool) (*thermo.Table, error) {
 	o.Tolerance = s.opts.TableTolerance
 	if lenient {
@@ -247,7 +249,7 @@ func (s *Server) buildTable(f thermo.SampleFunc, xmin, xmax float64, o thermo.Ta
 	t, err := thermo.BuildTable(f, xmin, xmax, o)
 	var te *thermo.ToleranceError
 	if lenient && errors.As(err, &te) && te.Best != nil {
-		s.log.Info("volume table tolerance not met (expected near a critical point, where the volume has an infinite slope); its measured error is reported",
+		s.log.Warn("volume table tolerance not met; its measured error is reported",
 			"table", what, "tolerance", o.Tolerance, "max_rel_error", te.Achieved)
 		return te.Best, nil
 	}
@@ -273,8 +275,25 @@ func (s *Server) buildTable(f thermo.SampleFunc, xmin, xmax float64, o thermo.Ta
 	return t, nil
 }
 
-// compileBranch starts the branch's backends and compiles its tables.
-func (s *Server) compileBranch(ctx context.Context, cv *curve, cb *catalog.Branch, third map[string]catalog.Backend) (*branch, int, error) {
+// criticalEnd returns the critical temperature Tc when cb is a saturation
+// branch that ends at the substance's critical point (t_max within 1e-9
+// relative of Tc), else 0. Its phase volumes are tabulated against the
+// critical-root transform of T (see volumeTable).
+func criticalEnd(kind thermo.CurveKind, cb *catalog.Branch, crit *catalog.Point) float64 {
+	if kind != thermo.Saturation || crit == nil {
+		return 0
+	}
+	tc := crit.Temperature
+	if !(tc > cb.Tmin) || math.IsInf(tc, 0) || math.Abs(cb.Tmax-tc) > 1e-9*tc {
+		return 0
+	}
+	return tc
+}
+
+// compileBranch starts the branch's backends and compiles its tables. tc
+// is the critical temperature where the branch ends at the critical point
+// (criticalEnd), else 0.
+func (s *Server) compileBranch(ctx context.Context, cv *curve, cb *catalog.Branch, tc float64, third map[string]catalog.Backend) (*branch, int, error) {
 	be, err := s.backendFor(ctx, cb.Correlation, third)
 	if err != nil {
 		return nil, 0, err
@@ -337,8 +356,8 @@ func (s *Server) compileBranch(ctx context.Context, cv *curve, cb *catalog.Branc
 	}
 
 	if cb.VolumeLow != nil && cb.VolumeHigh != nil {
-		vl, vlBE, errL := s.volumeTable(ctx, sp, *cb.VolumeLow, false, third, "low-T phase volume")
-		vh, vhBE, errH := s.volumeTable(ctx, sp, *cb.VolumeHigh, cv.vapour, third, "high-T phase volume")
+		vl, vlBE, errL := s.volumeTable(ctx, sp, *cb.VolumeLow, false, tc, third, "low-T phase volume")
+		vh, vhBE, errH := s.volumeTable(ctx, sp, *cb.VolumeHigh, cv.vapour, tc, third, "high-T phase volume")
 		switch {
 		case ctx.Err() != nil:
 			return nil, 0, ctx.Err()
@@ -361,7 +380,13 @@ func (s *Server) compileBranch(ctx context.Context, cv *curve, cb *catalog.Branc
 }
 
 // volumeTable tabulates a phase volume along the curve: v(T, P(T)).
-func (s *Server) volumeTable(ctx context.Context, curveSampler sampler, vc catalog.Correlation, vapour bool, third map[string]catalog.Backend, what string) (*thermo.Table, string, error) {
+//
+// On a saturation branch that ends at the critical point (tc > 0) the
+// table runs against u = (1 − T/Tc)^(1/6) (thermo.TransformCriticalRoot)
+// over the whole range up to Tc: saturated densities are series in
+// (1 − T/Tc)^(1/3) or ^(1/6), with an infinite slope at Tc in T but
+// smooth in u, and so reach the table tolerance (about 1e-4 against T).
+func (s *Server) volumeTable(ctx context.Context, curveSampler sampler, vc catalog.Correlation, vapour bool, tc float64, third map[string]catalog.Backend, what string) (*thermo.Table, string, error) {
 	be, err := s.backendFor(ctx, vc, third)
 	if err != nil {
 		return nil, "", err
@@ -384,6 +409,10 @@ func (s *Server) volumeTable(ctx context.Context, curveSampler sampler, vc catal
 		o.XTransform, o.YTransform = thermo.TransformReciprocal, thermo.TransformLog
 	}
 	lo, hi := curveSampler.tmin, curveSampler.tmax
+	if tc > 0 {
+		o.XTransform, o.XReference = thermo.TransformCriticalRoot, tc
+		hi = math.Min(hi, tc)
+	}
 	t, err := s.buildTable(f, lo, hi, o, what, true)
 	var te *thermo.ToleranceError
 	if err != nil && !errors.As(err, &te) && ctx.Err() == nil {

@@ -150,6 +150,7 @@ func tableProto(t *thermo.Table) *phaseboundpb.ChebyshevTable {
 		XMin:         d.XMin,
 		XMax:         d.XMax,
 		MaxRelError:  d.MaxRelError,
+		XReference:   d.XReference,
 	}
 }
 
