@@ -10,6 +10,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"path/filepath"
 	"strconv"
 	"strings"
 	"time"
@@ -54,7 +55,9 @@ Batch: --input IN.csv with a column temperature_k or pressure_pa, and
 --output OUT.csv (or - for stdout): one output row per input row, in order,
 with temperature_k, pressure_pa, dpdt_pa_per_k, branch, status and the
 latent-heat columns; bad rows keep their place with the reason in status.
-Files of any size are streamed in chunks.
+Files of any size are streamed in chunks. OUT.csv appears (or is replaced)
+only when the whole batch succeeded; a batch that fails half-way leaves no
+partial file behind.
 
 Results come from the server's compiled tables (their measured error
 against the correlation is reported); --exact evaluates the correlation
@@ -336,14 +339,17 @@ func (a *app) evalBatch(ctx context.Context, f evalFlags) error {
 	}
 	defer in.Close()
 	var out io.Writer = a.stdout
-	var outFile *os.File
+	var outFile *pendingFile
 	if f.output != "-" {
-		outFile, err = os.Create(f.output)
+		// Rows go to a temporary file beside the output, renamed over it
+		// only once the whole batch succeeded: a batch that fails half-way
+		// leaves no partial file (and an earlier output untouched).
+		outFile, err = createPending(f.output)
 		if err != nil {
 			return fmt.Errorf("--output: %w", err)
 		}
-		defer outFile.Close()
-		out = outFile
+		defer outFile.discard()
+		out = outFile.f
 	}
 
 	var src io.Reader = in
@@ -431,7 +437,7 @@ func (a *app) evalBatch(ctx context.Context, f evalFlags) error {
 		return fmt.Errorf("--output: %w", err)
 	}
 	if outFile != nil {
-		if err := outFile.Close(); err != nil {
+		if err := outFile.commit(); err != nil {
 			return fmt.Errorf("--output: %w", err)
 		}
 	}
@@ -445,6 +451,57 @@ func (a *app) evalBatch(ctx context.Context, f evalFlags) error {
 	}
 	fmt.Fprintln(a.stderr, msg)
 	return nil
+}
+
+// pendingFile is an output written under a temporary name in the target's
+// folder and renamed to the target by commit.
+type pendingFile struct {
+	f      *os.File
+	target string
+	done   bool
+}
+
+// createPending creates the temporary file for target. It gets the mode
+// of an existing target, else 0644.
+func createPending(target string) (*pendingFile, error) {
+	mode := os.FileMode(0o644)
+	if fi, err := os.Stat(target); err == nil {
+		if !fi.Mode().IsRegular() {
+			return nil, fmt.Errorf("%s exists and is not a regular file", target)
+		}
+		mode = fi.Mode().Perm()
+	}
+	f, err := os.CreateTemp(filepath.Dir(target), "."+filepath.Base(target)+".*.tmp")
+	if err != nil {
+		return nil, err
+	}
+	if err := f.Chmod(mode); err != nil {
+		f.Close()
+		os.Remove(f.Name())
+		return nil, err
+	}
+	return &pendingFile{f: f, target: target}, nil
+}
+
+// commit closes the temporary file and renames it to the target.
+func (p *pendingFile) commit() error {
+	if err := p.f.Close(); err != nil {
+		return err
+	}
+	if err := os.Rename(p.f.Name(), p.target); err != nil {
+		return err
+	}
+	p.done = true
+	return nil
+}
+
+// discard removes the temporary file unless commit succeeded.
+func (p *pendingFile) discard() {
+	if p.done {
+		return
+	}
+	p.f.Close()
+	os.Remove(p.f.Name())
 }
 
 // openInput opens the batch input ("-" is stdin) and returns its size in
