@@ -891,17 +891,22 @@ func newTable(d TableData, quantity, unit string) (*Table, error) {
 
 // slopeAtReference returns dy/dx at x = x_ref of a TransformCriticalRoot
 // table that reaches x_ref (u = 0): du/dx is −∞ there, so the slope is
-// −∞ where y rises with u over the first segment [0, u₁] (falls with x),
-// +∞ where it falls, and 0 where the table is flat there.
+// −∞ where y rises with u away from u = 0 (falls with x), +∞ where it
+// falls, and 0 where the table is flat. The first segment whose far end
+// differs from y(0) decides: segments shorter than the float64 grid of x
+// near x_ref (u < 0.002 or so) hold a constant.
 func (t *Table) slopeAtReference() float64 {
 	c := t.coeffs[t.offsets[0]:t.offsets[1]]
 	s0 := -(t.breaks[0] + t.breaks[1]) * t.invWidth[0] // s at u = 0
-	y0, y1 := t.yt.inverse(chebValue(c, s0)), t.yt.inverse(chebValue(c, 1))
-	switch {
-	case y1 > y0:
-		return math.Inf(-1)
-	case y1 < y0:
-		return math.Inf(1)
+	y0 := t.yt.inverse(chebValue(c, s0))
+	for i := 0; i+1 < len(t.breaks); i++ {
+		y1 := t.yt.inverse(chebValue(t.coeffs[t.offsets[i]:t.offsets[i+1]], 1))
+		switch {
+		case y1 > y0:
+			return math.Inf(-1)
+		case y1 < y0:
+			return math.Inf(1)
+		}
 	}
 	return 0
 }
