@@ -61,7 +61,7 @@ func loadDefault(fsys fs.FS) (*Catalog, error) {
 		if err != nil {
 			return nil, fmt.Errorf("catalog: embedded default: %w", err)
 		}
-		if f.includeDefault {
+		if f.cat.IncludeDefault {
 			return nil, fmt.Errorf("catalog: embedded default: %s must not set include_default", name)
 		}
 		if len(f.refs) > 0 {

@@ -57,7 +57,7 @@ func FuzzParse(f *testing.F) {
 		}
 		b1, s1 := content(c)
 		b2, s2 := content(back)
-		if !equalContent(b1, b2, s1, s2) {
+		if !equalContent(b1, b2, s1, s2) || back.IncludeDefault != c.IncludeDefault {
 			t.Fatalf("round trip changed the catalog:\n%s", buf.String())
 		}
 	})

@@ -10,15 +10,17 @@ import (
 // Merge returns a catalog with overlay on top of base: a substance of
 // overlay replaces the whole substance of base with the same id (keeping
 // base's position), new substances follow base's in overlay's order, and
-// a backend of overlay replaces base's backend of the same name. The
+// a backend of overlay replaces base's backend of the same name.
+// IncludeDefault is set when either input has it. The
 // Version is the SHA-256 of the concatenated texts of both, in order (a
 // catalog built in code contributes its Write output). Neither input is
 // changed; the result shares their (immutable) substances.
 func Merge(base, overlay *Catalog) *Catalog {
 	out := &Catalog{
-		Backends:   slices.Clone(base.Backends),
-		Substances: slices.Clone(base.Substances),
-		Source:     base.Source + " + " + overlay.Source,
+		Backends:       slices.Clone(base.Backends),
+		Substances:     slices.Clone(base.Substances),
+		Source:         base.Source + " + " + overlay.Source,
+		IncludeDefault: base.IncludeDefault || overlay.IncludeDefault,
 	}
 	for _, b := range overlay.Backends {
 		if i := slices.IndexFunc(out.Backends, func(x Backend) bool { return x.Name == b.Name }); i >= 0 {

@@ -124,6 +124,9 @@ func TestIncludeDefault(t *testing.T) {
 	if c.Lookup("newcomer") == nil {
 		t.Error("newcomer missing")
 	}
+	if !c.IncludeDefault || def.IncludeDefault {
+		t.Errorf("IncludeDefault: merged %v, default %v; want true and false", c.IncludeDefault, def.IncludeDefault)
+	}
 	sum := sha256.Sum256(append(append([]byte(nil), def.raw...), text...))
 	if c.Version != hex.EncodeToString(sum[:]) {
 		t.Error("Version is not over the default's text followed by the file's")

@@ -148,7 +148,7 @@ func LoadFiles(paths ...string) (*Catalog, error) {
 		if err != nil {
 			return nil, err
 		}
-		withDef = withDef || f.includeDefault
+		withDef = withDef || f.cat.IncludeDefault
 		files = append(files, f)
 	}
 	var c *Catalog
@@ -180,7 +180,7 @@ func parseOne(name string, data []byte, dir string) (*Catalog, error) {
 		return nil, err
 	}
 	c := f.cat
-	if f.includeDefault {
+	if c.IncludeDefault {
 		def, err := Default()
 		if err != nil {
 			return nil, err
@@ -195,9 +195,8 @@ func parseOne(name string, data []byte, dir string) (*Catalog, error) {
 
 // parsedFile is one file's catalog before merging.
 type parsedFile struct {
-	cat            *Catalog
-	includeDefault bool
-	refs           []backendRef // backends named but declared neither in the file nor standard
+	cat  *Catalog
+	refs []backendRef // backends named but declared neither in the file nor standard
 }
 
 // backendRef is a use of a backend that must be declared somewhere in the
@@ -245,7 +244,7 @@ func parseFile(name string, data []byte, dir string) (*parsedFile, error) {
 	if format != FormatVersion {
 		return nil, root.errf("format", "format %v is not supported (this version reads format = %d)", format, FormatVersion)
 	}
-	if f.includeDefault, err = root.boolean("include_default"); err != nil {
+	if c.IncludeDefault, err = root.boolean("include_default"); err != nil {
 		return nil, err
 	}
 

@@ -14,6 +14,14 @@ type Catalog struct {
 	Source string
 	// Version is the hex SHA-256 of the catalog's bytes (of all files merged).
 	Version string
+	// IncludeDefault is the file's include_default: the catalog is meant to
+	// lie on top of the embedded default catalog. Parse and Load have then
+	// already merged the default in (so its substances are in Substances);
+	// Write emits include_default = true, so that the written file is
+	// merged onto the default again when it is parsed. The field alone
+	// merges nothing: a catalog built in code serves only its own
+	// substances until it is written and parsed.
+	IncludeDefault bool
 
 	// raw is the text the catalog was read from (the concatenation, in
 	// order, for a merged catalog); nil for a catalog built in code.

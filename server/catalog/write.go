@@ -17,7 +17,8 @@ import (
 // --catalog flag). Parse(Write(c)) gives back c's backends and substances;
 // parameter lists of one value come back as that one value, and relative
 // backend paths stay relative (to the folder the written file is loaded
-// from). Write does not validate: a catalog built in code should be checked
+// from), and IncludeDefault is kept (include_default = true, written only
+// when set). Write does not validate: a catalog built in code should be checked
 // by parsing what was written, as the fit command does.
 func Write(w io.Writer, c *Catalog) error {
 	bw := bufio.NewWriter(w)
@@ -27,6 +28,9 @@ func Write(w io.Writer, c *Catalog) error {
 		p.line("# Written from: " + oneLine(c.Source))
 	}
 	p.kv("", "format", strconv.Itoa(FormatVersion))
+	if c.IncludeDefault {
+		p.kv("", "include_default", "true")
+	}
 	for _, b := range c.Backends {
 		p.blank()
 		p.line("[[backend]]")

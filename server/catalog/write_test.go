@@ -48,6 +48,9 @@ func roundTrip(t testing.TB, c *Catalog) string {
 	if !equalContent(b1, b2, s1, s2) {
 		t.Errorf("the catalog differs after the round trip:\n%s", buf.String())
 	}
+	if back.IncludeDefault != c.IncludeDefault {
+		t.Errorf("IncludeDefault %v after the round trip, want %v:\n%s", back.IncludeDefault, c.IncludeDefault, buf.String())
+	}
 	return buf.String()
 }
 
@@ -79,6 +82,55 @@ func TestWriteRoundTrip(t *testing.T) {
 		t.Fatal(err)
 	}
 	roundTrip(t, def)
+}
+
+// TestWriteIncludeDefault: include_default survives Parse → Write → Parse,
+// and a catalog built in code with IncludeDefault set writes a file that
+// loads on top of the embedded default.
+func TestWriteIncludeDefault(t *testing.T) {
+	t.Parallel()
+	def, err := Default()
+	if err != nil {
+		t.Fatal(err)
+	}
+	parsed, err := Parse("site.toml", []byte("format = 1\ninclude_default = true\n"+strings.TrimPrefix(overlayText, "format = 1\n")))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !parsed.IncludeDefault {
+		t.Fatal("Parse did not set IncludeDefault from include_default = true")
+	}
+	if text := roundTrip(t, parsed); !strings.Contains(text, "format = 1\ninclude_default = true\n") {
+		t.Errorf("written catalog lacks include_default = true after the format line:\n%s", text)
+	}
+
+	own := parsed.Lookup("other") // served by a standard backend
+	tests := []struct {
+		name           string
+		includeDefault bool
+		wantSubstances int
+	}{
+		{"on top of the default", true, len(def.Substances) + 1},
+		{"alone", false, 1},
+	}
+	for _, tc := range tests {
+		built := &Catalog{Substances: []*Substance{own}, IncludeDefault: tc.includeDefault}
+		var buf bytes.Buffer
+		if err := Write(&buf, built); err != nil {
+			t.Fatal(err)
+		}
+		if got := strings.Contains(buf.String(), "include_default"); got != tc.includeDefault {
+			t.Errorf("%s: include_default written %v, want %v:\n%s", tc.name, got, tc.includeDefault, buf.String())
+		}
+		back, err := Parse("built.toml", buf.Bytes())
+		if err != nil {
+			t.Fatalf("%s: %v\n%s", tc.name, err, buf.String())
+		}
+		if back.IncludeDefault != tc.includeDefault || len(back.Substances) != tc.wantSubstances || back.Lookup("other") == nil {
+			t.Errorf("%s: parsed back with IncludeDefault %v and %d substances (own substance %v), want %v and %d",
+				tc.name, back.IncludeDefault, len(back.Substances), back.Lookup("other") != nil, tc.includeDefault, tc.wantSubstances)
+		}
+	}
 }
 
 func TestWriteBuiltCatalog(t *testing.T) {
