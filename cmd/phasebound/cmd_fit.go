@@ -560,7 +560,9 @@ func (a *app) writeFitCatalog(f *fitFlags, kind thermo.CurveKind, res *thermo.Fi
 			Curves: []*catalog.Curve{{Kind: kind, Branches: []*catalog.Branch{br}}},
 		}
 	}
-	out := &catalog.Catalog{Substances: []*catalog.Substance{sub}, Source: "phasebound fit of " + dataFile}
+	// include_default = true: the written file merges onto the embedded
+	// default catalog when loaded.
+	out := &catalog.Catalog{Substances: []*catalog.Substance{sub}, Source: "phasebound fit of " + dataFile, IncludeDefault: true}
 	// Third-party backends the copied substance names come along.
 	used := map[string]bool{}
 	for _, cv := range sub.Curves {
@@ -581,32 +583,10 @@ func (a *app) writeFitCatalog(f *fitFlags, kind thermo.CurveKind, res *thermo.Fi
 	if err := catalog.Write(&buf, out); err != nil {
 		return nil, err
 	}
-	text, err := withIncludeDefault(buf.Bytes())
-	if err != nil {
-		return nil, err
-	}
+	text := buf.Bytes()
 	// The file must load as written, merged onto the default.
 	if _, err := catalog.Parse(f.out, text); err != nil {
 		return nil, fmt.Errorf("the written catalog does not load: %w", err)
 	}
 	return warnings, os.WriteFile(f.out, text, 0o644)
-}
-
-// withIncludeDefault sets include_default = true after the format line,
-// so the written file merges onto the embedded default catalog.
-func withIncludeDefault(text []byte) ([]byte, error) {
-	lines := strings.SplitAfter(string(text), "\n")
-	for i, l := range lines {
-		if strings.HasPrefix(l, "include_default") {
-			lines[i] = "include_default = true\n"
-			return []byte(strings.Join(lines, "")), nil
-		}
-	}
-	for i, l := range lines {
-		if strings.HasPrefix(l, "format") {
-			rest := append([]string{"include_default = true\n"}, lines[i+1:]...)
-			return []byte(strings.Join(append(lines[:i+1], rest...), "")), nil
-		}
-	}
-	return nil, errors.New("catalog writer gave no format line")
 }

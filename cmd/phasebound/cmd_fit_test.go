@@ -113,6 +113,9 @@ func TestFitOutServesThroughCatalog(t *testing.T) {
 	if err != nil {
 		t.Fatalf("written catalog does not load: %v", err)
 	}
+	if !c.IncludeDefault {
+		t.Error("the loaded catalog's IncludeDefault is false")
+	}
 	s := c.Lookup("testfluid")
 	if s == nil {
 		t.Fatal("fitted substance missing")
