@@ -328,7 +328,14 @@ func evalVolume(ctx context.Context, v thermo.VolumeCorrelation, req *pluginpb.E
 		}
 		vol, d, err := v.Volume(t, p)
 		if err == nil {
-			err = checkFinite(vol, d)
+			// dv/dT of a saturated volume is ±Inf at the critical point
+			// (the density families document it); its value is finite
+			// and passes on.
+			dd := d
+			if math.IsInf(d, 0) {
+				dd = 0
+			}
+			err = checkFinite(vol, dd)
 		}
 		if err != nil {
 			fail(resp, i, err)
