@@ -320,7 +320,10 @@ func Run(ctx context.Context, cfg Config) (*Report, error) {
 	}
 	var unary, echoUnary []float64
 	for r := 0; r < cfg.Repeat; r++ {
-		for _, d := range cases {
+		// Each repetition starts with another case, so that no case always
+		// runs right after the unary measurement (or first).
+		for k := range cases {
+			d := cases[(k+r)%len(cases)]
 			cfg.Progress(fmt.Sprintf("repetition %d/%d: %s", r+1, cfg.Repeat, d.label()))
 			if err := measure(ctx, cfg, d); err != nil {
 				return nil, err

@@ -93,6 +93,11 @@ func Soak(ctx context.Context, cfg SoakConfig) (*SoakReport, error) {
 	errs := make([]atomic.Int64, len(kinds))
 	var points, mismatches atomic.Int64
 	var firstErr atomic.Pointer[string]
+	// One call first, so that the connection's own goroutines and buffers
+	// exist before the start sample.
+	if _, err := cfg.Client.Echo(ctx, &phaseboundpb.EchoRequest{Values: []float64{1}}); err != nil {
+		return nil, fmt.Errorf("bench: soak warm-up call: %w", err)
+	}
 	rep.Start = sample()
 	peak := rep.Start.RSSBytes
 	var peakMu sync.Mutex
