@@ -70,6 +70,11 @@ type Client struct {
 // gRPC target with a scheme such as "dns:///name:port" (every address the
 // name resolves to, round-robin). Calls that fail with UNAVAILABLE are
 // retried. Dial does not wait for a connection; the first call does.
+//
+// Over TLS each server's certificate is checked against the host it is
+// dialled by: each HOST of a list against its own certificate (a DNS name
+// against the DNS SANs, an IP address against the IP SANs), the NAME of
+// "dns:///NAME:PORT" for every address it resolves to.
 func Dial(ctx context.Context, target string, opts Options) (*Client, error) {
 	_ = ctx // connections are established lazily by the first call
 	target = strings.TrimSpace(target)
@@ -80,8 +85,12 @@ func Dial(ctx context.Context, target string, opts Options) (*Client, error) {
 		grpc.WithDefaultServiceConfig(serviceConfig),
 		grpc.WithDefaultCallOptions(grpc.MaxCallRecvMsgSize(MaxMessageBytes), grpc.MaxCallSendMsgSize(MaxMessageBytes)),
 	}
-	var serverName string
 	if !strings.Contains(target, "://") {
+		// Each address is its own server name, so every replica's
+		// certificate is checked against the host it was dialled by (the
+		// TLS credentials drop the port) and each call's :authority is the
+		// address it goes to. No WithAuthority: it would override those
+		// names with one for every address.
 		var addrs []resolver.Address
 		for _, a := range strings.Split(target, ",") {
 			a = strings.TrimSpace(a)
@@ -89,23 +98,14 @@ func Dial(ctx context.Context, target string, opts Options) (*Client, error) {
 			if err != nil || host == "" || port == "" {
 				return nil, fmt.Errorf("goclient: server address %q is not HOST:PORT (want HOST:PORT[,HOST:PORT...] or dns:///NAME:PORT)", a)
 			}
-			if serverName == "" {
-				serverName = host
-			}
-			addrs = append(addrs, resolver.Address{Addr: a})
+			addrs = append(addrs, resolver.Address{Addr: a, ServerName: a})
 		}
 		r := manual.NewBuilderWithScheme("phasebound")
 		r.InitialState(resolver.State{Endpoints: endpoints(addrs)})
-		dopts = append(dopts, grpc.WithResolvers(r), grpc.WithAuthority(addrs[0].Addr))
-		target = r.Scheme() + ":///" + strings.ReplaceAll(target, ",", "_")
-	} else if i := strings.Index(target, ":///"); i >= 0 {
-		host, _, err := net.SplitHostPort(target[i+4:])
-		if err != nil {
-			host = target[i+4:]
-		}
-		serverName = host
+		dopts = append(dopts, grpc.WithResolvers(r))
+		target = r.Scheme() + ":///" + addrs[0].Addr
 	}
-	creds, err := opts.credentials(serverName)
+	creds, err := opts.credentials()
 	if err != nil {
 		return nil, err
 	}

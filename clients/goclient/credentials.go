@@ -22,12 +22,10 @@ import (
 // credentials returns the dial options for transport security and the
 // bearer token; Dial calls it.
 //
-// The server's certificate is checked against the connection's authority:
-// the host of "dns:///HOST:PORT", or the first HOST of a HOST:PORT list (so
-// replicas dialled as a list share a certificate naming that host, or all
-// of them; an IP address is checked against the IP SANs). serverName is
-// that same host and is not set on the TLS configuration, which would
-// conflict with Dial's authority option.
+// The server name is not set on the TLS configuration: gRPC checks each
+// server's certificate against the name of the address it dials (each
+// HOST of a HOST:PORT list, see Dial) or the channel's authority (the host
+// of "dns:///HOST:PORT").
 //
 // TLS is on when TLSCA or TLSCert is set: TLSCA names the CAs that sign the
 // server's certificate (the system roots when empty), TLSCert and TLSKey
@@ -38,8 +36,7 @@ import (
 // sent only to loopback addresses (127.0.0.0/8, ::1), where nobody else can
 // read it: a call to any other address without TLS fails with
 // Unauthenticated before the token leaves the process.
-func (o Options) credentials(serverName string) ([]grpc.DialOption, error) {
-	_ = serverName // the authority carries it; see above
+func (o Options) credentials() ([]grpc.DialOption, error) {
 	tlsOn, tlsCreds, err := o.transportCredentials()
 	if err != nil {
 		return nil, err
