@@ -16,7 +16,8 @@ import (
 // 'phasebound serve', so that the benchmark measures a real transport.
 type Loopback struct {
 	// Addr is the address listened on (127.0.0.1:port).
-	Addr   string
+	Addr string
+	// Server is the service behind the listener (for Reload in tests).
 	Server *server.Server
 	g      *grpc.Server
 	lis    net.Listener
