@@ -32,18 +32,22 @@ server=${PHASEBOUND_SERVER:-}
 if [ -z "$server" ]; then
   bin=bin/phasebound
   [ -x "$bin" ] || "$GO" build -o "$bin" ./cmd/phasebound
-  server=${PHASEBOUND_CLIENTS_ADDR:-127.0.0.1:50561}
+  # Port 0: the kernel picks a free loopback port; serve prints it.
   log=$(mktemp)
-  "$bin" serve --listen "$server" 2>"$log" &
+  addrfile=$(mktemp)
+  "$bin" serve --listen "${PHASEBOUND_CLIENTS_ADDR:-127.0.0.1:0}" >"$addrfile" 2>"$log" &
   pid=$!
-  cleanup() { kill -TERM "$pid" 2>/dev/null || true; wait "$pid" 2>/dev/null || true; rm -f "$log"; }
+  cleanup() { kill -TERM "$pid" 2>/dev/null || true; wait "$pid" 2>/dev/null || true; rm -f "$log" "$addrfile"; }
   trap cleanup EXIT
-  echo "clients: starting a server on $server"
-  for _ in $(seq 1 600); do
-    if "$bin" substances --server "$server" >/dev/null 2>&1; then break; fi
+  echo "clients: starting a server on loopback"
+  server=""
+  for _ in $(seq 1 1200); do
+    server=$(sed -n 's/^phasebound serving on //p' "$addrfile" | head -n 1)
+    if [ -n "$server" ] && "$bin" substances --server "$server" >/dev/null 2>&1; then break; fi
     if ! kill -0 "$pid" 2>/dev/null; then echo "clients: the server did not start:" >&2; cat "$log" >&2; exit 1; fi
     sleep 0.1
   done
+  if [ -z "$server" ]; then echo "clients: the server did not report its address:" >&2; cat "$log" >&2; exit 1; fi
 fi
 export PHASEBOUND_SERVER=$server
 
