@@ -79,16 +79,29 @@ func TestSaturatedVolumeTablesToCriticalPoint(t *testing.T) {
 				if e := vt.GetMaxRelError(); e > thermo.DefaultTableTolerance {
 					t.Errorf("%s %s volume table: measured error %g above %g", sub.id, side, e, thermo.DefaultTableTolerance)
 				}
-				// A client rebuilds it with the exported reference.
-				tb, err := thermo.LoadTable(thermo.TableData{
+				// A client rebuilds it with the exported reference, or
+				// without it (x_reference unset means x_max = Tc).
+				d := thermo.TableData{
 					XTransform: thermo.Transform(vt.GetXTransform()), YTransform: thermo.Transform(vt.GetYTransform()),
 					Breaks: vt.GetBreaks(), Offsets: vt.GetOffsets(), Coeffs: vt.GetCoefficients(),
 					XMin: vt.GetXMin(), XMax: vt.GetXMax(), MaxRelError: vt.GetMaxRelError(), XReference: vt.GetXReference(),
-				}, "temperature", "K")
-				if err != nil {
-					t.Errorf("%s %s volume table does not load: %v", sub.id, side, err)
-				} else if _, d, _ := tb.Eval(sub.tc); !math.IsInf(d, 0) {
+				}
+				tb, err := thermo.LoadTable(d, "temperature", "K")
+				d.XReference = 0
+				tb0, err0 := thermo.LoadTable(d, "temperature", "K")
+				if err != nil || err0 != nil {
+					t.Errorf("%s %s volume table does not load: %v; without x_reference: %v", sub.id, side, err, err0)
+					continue
+				}
+				if _, d, _ := tb.Eval(sub.tc); !math.IsInf(d, 0) {
 					t.Errorf("%s %s volume: dv/dT(Tc) = %g, want infinite", sub.id, side, d)
+				}
+				for _, temp := range []float64{vt.GetXMin(), 0.5 * (vt.GetXMin() + sub.tc), sub.tc - 1e-6, sub.tc} {
+					v, _, _ := tb.Eval(temp)
+					v0, _, _ := tb0.Eval(temp)
+					if v != v0 {
+						t.Errorf("%s %s volume at %g K: %g with x_reference, %g without", sub.id, side, temp, v, v0)
+					}
 				}
 			}
 		}
