@@ -397,27 +397,34 @@ func phasebound_tables_refresh(tables C.int64_t, changed *C.int) (rc C.int) {
 	if err != nil {
 		return
 	}
+	did, err := th.refreshNow()
+	if did && changed != nil {
+		*changed = 1
+	}
+	return
+}
+
+// refreshNow asks the server for its catalog version and, when it differs
+// from the tables', fetches the new tables and swaps them in. On error the
+// old tables stay.
+func (th *tablesHandle) refreshNow() (changed bool, err error) {
 	th.refresh.Lock()
 	defer th.refresh.Unlock()
 	ctx, cancel := context.WithTimeout(context.Background(), callTimeout)
 	defer cancel()
-	d, rerr := th.client.DescribeSubstance(ctx, th.substance)
-	if rerr != nil {
-		err = serverError(rerr)
-		return
+	d, err := th.client.DescribeSubstance(ctx, th.substance)
+	if err != nil {
+		return false, serverError(err)
 	}
 	if d.GetCatalogVersion() == th.cur.Load().version {
-		return
+		return false, nil
 	}
 	ts, err := fetch(th.client, th.substance)
 	if err != nil {
-		return
+		return false, err
 	}
 	th.cur.Store(ts)
-	if changed != nil {
-		*changed = 1
-	}
-	return
+	return true, nil
 }
 
 //export phasebound_tables_version
