@@ -183,8 +183,10 @@ func Soak(ctx context.Context, cfg SoakConfig) (*SoakReport, error) {
 	return rep, nil
 }
 
-// sample collects garbage first so that heap figures compare.
+// sample collects garbage first (twice, so that sync.Pool caches such as
+// gRPC's buffer pools are emptied too) so that heap figures compare.
 func sample() ProcessSample {
+	runtime.GC()
 	runtime.GC()
 	var ms runtime.MemStats
 	runtime.ReadMemStats(&ms)
