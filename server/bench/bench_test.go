@@ -4,6 +4,7 @@ import (
 	"context"
 	"io"
 	"log/slog"
+	"net"
 	"os"
 	"strconv"
 	"sync"
@@ -12,6 +13,7 @@ import (
 
 	"google.golang.org/grpc"
 	"google.golang.org/grpc/credentials/insecure"
+	"google.golang.org/grpc/test/bufconn"
 
 	"github.com/phasebound/phasebound/plugins/sdk"
 	phaseboundpb "github.com/phasebound/phasebound/proto/phasebound/v1"
@@ -145,6 +147,61 @@ var (
 	benchResp *phaseboundpb.EvaluateResponse
 	benchEcho *phaseboundpb.EchoResponse
 )
+
+// bufconnClient serves the loopback server's service again over an
+// in-memory connection (no kernel, no TCP).
+func bufconnClient(b *testing.B) phaseboundpb.BoundaryServiceClient {
+	lb, _, _ := loopback(b)
+	lis := bufconn.Listen(4 << 20)
+	g := grpc.NewServer(server.LimitOptions(server.LimitsConfig{})...)
+	lb.Server.Register(g)
+	go g.Serve(lis)
+	cc, err := grpc.NewClient("passthrough:///bufconn",
+		grpc.WithContextDialer(func(ctx context.Context, _ string) (net.Conn, error) { return lis.DialContext(ctx) }),
+		grpc.WithTransportCredentials(insecure.NewCredentials()),
+		grpc.WithDefaultCallOptions(grpc.MaxCallRecvMsgSize(256<<20), grpc.MaxCallSendMsgSize(256<<20)))
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.Cleanup(func() { cc.Close(); g.Stop() })
+	return phaseboundpb.NewBoundaryServiceClient(cc)
+}
+
+// BenchmarkTransportBufconn is BenchmarkTransport's Evaluate against Echo
+// over bufconn: the gRPC and protobuf costs without the kernel's.
+func BenchmarkTransportBufconn(b *testing.B) {
+	client := bufconnClient(b)
+	ctx := context.Background()
+	const n = 65536
+	xs := make([]float64, n)
+	for i := range xs {
+		xs[i] = 274 + 370*float64((i*389)%n)/float64(n)
+	}
+	req := &phaseboundpb.EvaluateRequest{Substance: "water", Curve: phaseboundpb.CurveKind_CURVE_KIND_SATURATION,
+		Given: phaseboundpb.Variable_VARIABLE_TEMPERATURE, Values: xs}
+	b.Run("evaluate/n=65536", func(b *testing.B) {
+		b.ReportAllocs()
+		for b.Loop() {
+			r, err := client.Evaluate(ctx, req)
+			if err != nil {
+				b.Fatal(err)
+			}
+			benchResp = r
+		}
+		b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/n, "ns/point")
+	})
+	b.Run("echo/n=65536", func(b *testing.B) {
+		b.ReportAllocs()
+		for b.Loop() {
+			r, err := client.Echo(ctx, &phaseboundpb.EchoRequest{Values: xs, Copies: 3})
+			if err != nil {
+				b.Fatal(err)
+			}
+			benchEcho = r
+		}
+		b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/n, "ns/point")
+	})
+}
 
 // BenchmarkTransport measures one Evaluate batch (table path) and the Echo
 // of the same payload, sized like Evaluate's response (three copies of the
