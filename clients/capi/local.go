@@ -81,7 +81,7 @@ func loadProtoTable(t *phaseboundpb.ChebyshevTable, quantity, unit string) (*the
 	return thermo.LoadTable(thermo.TableData{
 		XTransform: thermo.Transform(t.GetXTransform()), YTransform: thermo.Transform(t.GetYTransform()),
 		Breaks: t.GetBreaks(), Offsets: t.GetOffsets(), Coeffs: t.GetCoefficients(),
-		XMin: t.GetXMin(), XMax: t.GetXMax(), MaxRelError: t.GetMaxRelError(),
+		XMin: t.GetXMin(), XMax: t.GetXMax(), MaxRelError: t.GetMaxRelError(), XReference: t.GetXReference(),
 	}, quantity, unit)
 }
 

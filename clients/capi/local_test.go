@@ -21,6 +21,7 @@ func protoTable(t testing.TB, tb *thermo.Table) *phaseboundpb.ChebyshevTable {
 	return &phaseboundpb.ChebyshevTable{
 		XTransform: phaseboundpb.Transform(d.XTransform), YTransform: phaseboundpb.Transform(d.YTransform),
 		Breaks: d.Breaks, Offsets: d.Offsets, Coefficients: d.Coeffs, XMin: d.XMin, XMax: d.XMax, MaxRelError: d.MaxRelError,
+		XReference: d.XReference,
 	}
 }
 

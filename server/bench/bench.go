@@ -454,7 +454,7 @@ func loadTable(t *phaseboundpb.ChebyshevTable, q, unit string) (*thermo.Table, e
 	return thermo.LoadTable(thermo.TableData{
 		XTransform: thermo.Transform(t.GetXTransform()), YTransform: thermo.Transform(t.GetYTransform()),
 		Breaks: t.GetBreaks(), Offsets: t.GetOffsets(), Coeffs: t.GetCoefficients(),
-		XMin: t.GetXMin(), XMax: t.GetXMax(), MaxRelError: t.GetMaxRelError(),
+		XMin: t.GetXMin(), XMax: t.GetXMax(), MaxRelError: t.GetMaxRelError(), XReference: t.GetXReference(),
 	}, q, unit)
 }
 
