@@ -206,55 +206,7 @@ func (c *Curve) Pressure(t float64, o CurveOptions) (CurvePoint, error) {
 	if math.IsNaN(t) || math.IsInf(t, 0) || t <= 0 {
 		return CurvePoint{}, CheckTemperature(t, Range{})
 	}
-	if err := c.check(); err != nil {
-		return CurvePoint{}, err
-	}
-	if o.Branch != "" {
-		i, err := c.BranchIndex(o.Branch)
-		if err != nil {
-			return CurvePoint{}, err
-		}
-		return c.pressureOn(i, t, o.AllowExtrapolation)
-	}
-	first, count := -1, 0
-	for i := range c.Branches {
-		if c.Branches[i].Corr.Range().ContainsT(t) {
-			if first < 0 {
-				first = i
-			}
-			count++
-		}
-	}
-	if count == 0 {
-		i, dist := c.nearest(t, true)
-		if dist <= BranchMeetTolerance*t && c.insideHull(t, true) {
-			if pt, err := c.pressureOn(i, t, true); err == nil {
-				pt.Extrapolated = false // inside a seam between branches, not beyond the curve
-				return pt, nil
-			}
-		}
-		if !o.AllowExtrapolation {
-			return CurvePoint{}, c.coverageError(t, true)
-		}
-		return c.pressureOn(i, t, true)
-	}
-	pt, err := c.pressureOn(first, t, false)
-	if err != nil || count == 1 {
-		return pt, err
-	}
-	for i := first + 1; i < len(c.Branches); i++ {
-		if !c.Branches[i].Corr.Range().ContainsT(t) {
-			continue
-		}
-		p, err := c.Branches[i].Corr.Pressure(t)
-		if err != nil {
-			return CurvePoint{}, err
-		}
-		if !crvMeet(p, pt.Pressure) {
-			return CurvePoint{}, &AmbiguousBranchError{Temperature: t, Branches: c.matching(t, true)}
-		}
-	}
-	return pt, nil
+	return c.locate(t, true, o)
 }
 
 // Temperature returns the point of the curve at pressure p: T(P), the
@@ -267,6 +219,13 @@ func (c *Curve) Temperature(p float64, o CurveOptions) (CurvePoint, error) {
 	if math.IsNaN(p) || math.IsInf(p, 0) || p <= 0 {
 		return CurvePoint{}, CheckPressure(p, Range{})
 	}
+	return c.locate(p, false, o)
+}
+
+// locate is Pressure (byT: v is a temperature) and Temperature (v is a
+// pressure) after the input check: it picks the branch as they describe
+// and evaluates it.
+func (c *Curve) locate(v float64, byT bool, o CurveOptions) (CurvePoint, error) {
 	if err := c.check(); err != nil {
 		return CurvePoint{}, err
 	}
@@ -275,11 +234,11 @@ func (c *Curve) Temperature(p float64, o CurveOptions) (CurvePoint, error) {
 		if err != nil {
 			return CurvePoint{}, err
 		}
-		return c.temperatureOn(i, p, o.AllowExtrapolation)
+		return c.evalOn(i, v, byT, o.AllowExtrapolation)
 	}
 	first, count := -1, 0
 	for i := range c.Branches {
-		if c.Branches[i].Corr.Range().ContainsP(p) {
+		if c.crvContains(i, v, byT) {
 			if first < 0 {
 				first = i
 			}
@@ -287,35 +246,63 @@ func (c *Curve) Temperature(p float64, o CurveOptions) (CurvePoint, error) {
 		}
 	}
 	if count == 0 {
-		i, dist := c.nearest(p, false)
-		if dist <= BranchMeetTolerance*p && c.insideHull(p, false) {
-			if pt, err := c.temperatureOn(i, p, true); err == nil {
+		i, dist := c.nearest(v, byT)
+		if dist <= BranchMeetTolerance*v && c.insideHull(v, byT) {
+			if pt, err := c.evalOn(i, v, byT, true); err == nil {
 				pt.Extrapolated = false // inside a seam between branches, not beyond the curve
 				return pt, nil
 			}
 		}
 		if !o.AllowExtrapolation {
-			return CurvePoint{}, c.coverageError(p, false)
+			return CurvePoint{}, c.coverageError(v, byT)
 		}
-		return c.temperatureOn(i, p, true)
+		return c.evalOn(i, v, byT, true)
 	}
-	pt, err := c.temperatureOn(first, p, false)
+	pt, err := c.evalOn(first, v, byT, false)
 	if err != nil || count == 1 {
 		return pt, err
 	}
 	for i := first + 1; i < len(c.Branches); i++ {
-		if !c.Branches[i].Corr.Range().ContainsP(p) {
+		if !c.crvContains(i, v, byT) {
 			continue
 		}
-		t, err := c.Branches[i].Corr.Temperature(p)
+		if byT {
+			p, err := c.Branches[i].Corr.Pressure(v)
+			if err != nil {
+				return CurvePoint{}, err
+			}
+			if !crvMeet(p, pt.Pressure) {
+				return CurvePoint{}, &AmbiguousBranchError{Temperature: v, Branches: c.matching(v, true)}
+			}
+			continue
+		}
+		t, err := c.Branches[i].Corr.Temperature(v)
 		if err != nil {
 			return CurvePoint{}, err
 		}
 		if !crvMeet(t, pt.Temperature) {
-			return CurvePoint{}, &AmbiguousPressureError{Pressure: p, Branches: c.matching(p, false)}
+			return CurvePoint{}, &AmbiguousPressureError{Pressure: v, Branches: c.matching(v, false)}
 		}
 	}
 	return pt, nil
+}
+
+// crvContains reports whether branch i's range holds v, a temperature
+// (byT) or a pressure.
+func (c *Curve) crvContains(i int, v float64, byT bool) bool {
+	r := c.Branches[i].Corr.Range()
+	if byT {
+		return r.ContainsT(v)
+	}
+	return r.ContainsP(v)
+}
+
+// evalOn is pressureOn (byT) or temperatureOn.
+func (c *Curve) evalOn(i int, v float64, byT, extrapolate bool) (CurvePoint, error) {
+	if byT {
+		return c.pressureOn(i, v, extrapolate)
+	}
+	return c.temperatureOn(i, v, extrapolate)
 }
 
 func crvMeet(a, b float64) bool {
