@@ -69,6 +69,44 @@ func seriesTerms(p Params, family, coef, expo string) (c, e []float64, err error
 	return c, e, nil
 }
 
+// densitySeries is what the reduced density equations (density-power-series,
+// density-log-series) share: Tc, ρc, the molar mass, the series Σ cᵢ·τ^tᵢ
+// and the temperature range.
+type densitySeries struct {
+	tc, rhoc, molarMass float64
+	series              tauSeries
+	r                   Range
+}
+
+// newDensitySeries reads t_c, rho_c, molar_mass, the coefficient list coef
+// and the exponent list t of the density family name, and checks the range
+// [tmin, tmax] against t_c.
+func newDensitySeries(p Params, name, coef string, tmin, tmax float64) (densitySeries, error) {
+	if err := volumeKnownParams(p, name, "t_c", "rho_c", coef, "t"); err != nil {
+		return densitySeries{}, err
+	}
+	tc, err := positiveScalar(p, name, "t_c", "K")
+	if err != nil {
+		return densitySeries{}, err
+	}
+	rhoc, err := positiveScalar(p, name, "rho_c", "kg/m³")
+	if err != nil {
+		return densitySeries{}, err
+	}
+	m, err := positiveScalar(p, name, "molar_mass", "kg/mol")
+	if err != nil {
+		return densitySeries{}, err
+	}
+	c, t, err := seriesTerms(p, name, coef, "t")
+	if err != nil {
+		return densitySeries{}, err
+	}
+	if err := volumeCheckRange(name, tmin, tmax, tc); err != nil {
+		return densitySeries{}, err
+	}
+	return densitySeries{tc: tc, rhoc: rhoc, molarMass: m, series: newTauSeries(c, t), r: Range{Tmin: tmin, Tmax: tmax}}, nil
+}
+
 // tauSeries is Σ cᵢ·τ^eᵢ with its derivative. When every exponent is a
 // multiple of 1/k for a small k (the published density equations use
 // thirds and sixths), it evaluates one root u = τ^(1/k) and integer powers

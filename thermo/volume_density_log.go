@@ -35,11 +35,7 @@ import "math"
 //	Span, R., Wagner, W. (1996). A new equation of state for carbon dioxide
 //	covering the fluid region from the triple-point temperature to 1100 K at
 //	pressures up to 800 MPa. J. Phys. Chem. Ref. Data 25(6), 1509–1596.
-type DensityLogSeries struct {
-	tc, rhoc, molarMass float64
-	series              tauSeries
-	r                   Range
-}
+type DensityLogSeries struct{ densitySeries }
 
 var _ VolumeCorrelation = (*DensityLogSeries)(nil)
 
@@ -60,29 +56,11 @@ func (DensityLogSeriesFamily) New(p Params, tmin, tmax float64) (VolumeCorrelati
 // DensityLogSeries.
 func NewDensityLogSeries(p Params, tmin, tmax float64) (*DensityLogSeries, error) {
 	const name = "density-log-series"
-	if err := volumeKnownParams(p, name, "t_c", "rho_c", "c", "t"); err != nil {
-		return nil, err
-	}
-	tc, err := positiveScalar(p, name, "t_c", "K")
+	ds, err := newDensitySeries(p, name, "c", tmin, tmax)
 	if err != nil {
 		return nil, err
 	}
-	rhoc, err := positiveScalar(p, name, "rho_c", "kg/m³")
-	if err != nil {
-		return nil, err
-	}
-	m, err := positiveScalar(p, name, "molar_mass", "kg/mol")
-	if err != nil {
-		return nil, err
-	}
-	c, t, err := seriesTerms(p, name, "c", "t")
-	if err != nil {
-		return nil, err
-	}
-	if err := volumeCheckRange(name, tmin, tmax, tc); err != nil {
-		return nil, err
-	}
-	d := &DensityLogSeries{tc: tc, rhoc: rhoc, molarMass: m, series: newTauSeries(c, t), r: Range{Tmin: tmin, Tmax: tmax}}
+	d := &DensityLogSeries{ds}
 	if err := volumeSamplePositive(name, tmin, tmax, d.density); err != nil {
 		return nil, err
 	}

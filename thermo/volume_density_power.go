@@ -35,11 +35,7 @@ import "math"
 //	IAPWS SR1-86(1992). Revised Supplementary Release on Saturation
 //	Properties of Ordinary Water Substance. International Association for
 //	the Properties of Water and Steam.
-type DensityPowerSeries struct {
-	tc, rhoc, molarMass float64
-	series              tauSeries
-	r                   Range
-}
+type DensityPowerSeries struct{ densitySeries }
 
 var _ VolumeCorrelation = (*DensityPowerSeries)(nil)
 
@@ -60,29 +56,11 @@ func (f DensityPowerSeriesFamily) New(p Params, tmin, tmax float64) (VolumeCorre
 // DensityPowerSeries.
 func NewDensityPowerSeries(p Params, tmin, tmax float64) (*DensityPowerSeries, error) {
 	const name = "density-power-series"
-	if err := volumeKnownParams(p, name, "t_c", "rho_c", "b", "t"); err != nil {
-		return nil, err
-	}
-	tc, err := positiveScalar(p, name, "t_c", "K")
+	ds, err := newDensitySeries(p, name, "b", tmin, tmax)
 	if err != nil {
 		return nil, err
 	}
-	rhoc, err := positiveScalar(p, name, "rho_c", "kg/m³")
-	if err != nil {
-		return nil, err
-	}
-	m, err := positiveScalar(p, name, "molar_mass", "kg/mol")
-	if err != nil {
-		return nil, err
-	}
-	b, t, err := seriesTerms(p, name, "b", "t")
-	if err != nil {
-		return nil, err
-	}
-	if err := volumeCheckRange(name, tmin, tmax, tc); err != nil {
-		return nil, err
-	}
-	d := &DensityPowerSeries{tc: tc, rhoc: rhoc, molarMass: m, series: newTauSeries(b, t), r: Range{Tmin: tmin, Tmax: tmax}}
+	d := &DensityPowerSeries{ds}
 	if err := volumeSamplePositive(name, tmin, tmax, d.density); err != nil {
 		return nil, err
 	}
