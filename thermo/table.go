@@ -1111,26 +1111,8 @@ func BuildPressureTable(c Correlation, opts TableOptions) (*Table, error) {
 	if c == nil {
 		return nil, fmt.Errorf("%w: correlation is nil", ErrBadParam)
 	}
-	if opts.XTransform == 0 {
-		opts.XTransform = TransformReciprocal
-	}
-	if opts.YTransform == 0 {
-		opts.YTransform = TransformLog
-	}
-	if opts.Quantity == "" {
-		opts.Quantity, opts.Unit = "temperature", "K"
-	}
 	r := c.Range()
-	return BuildTable(func(x, y []float64) error {
-		for i, t := range x {
-			p, err := c.Pressure(t)
-			if err != nil {
-				return err
-			}
-			y[i] = p
-		}
-		return nil
-	}, r.Tmin, r.Tmax, opts)
+	return buildCorrelationTable(c.Pressure, r.Tmin, r.Tmax, opts, TransformReciprocal, TransformLog, "temperature", "K")
 }
 
 // BuildTemperatureTable compiles T(P) of c over its pressure range
@@ -1141,26 +1123,34 @@ func BuildTemperatureTable(c Correlation, opts TableOptions) (*Table, error) {
 	if c == nil {
 		return nil, fmt.Errorf("%w: correlation is nil", ErrBadParam)
 	}
+	r := c.Range()
+	return buildCorrelationTable(c.Temperature, r.Pmin, r.Pmax, opts, TransformLog, TransformReciprocal, "pressure", "Pa")
+}
+
+// buildCorrelationTable is BuildPressureTable and BuildTemperatureTable:
+// it fills the zero transforms and the empty quantity of opts with the
+// defaults given, and compiles f over [lo, hi] one point at a time.
+func buildCorrelationTable(f func(float64) (float64, error), lo, hi float64, opts TableOptions,
+	xt, yt Transform, quantity, unit string) (*Table, error) {
 	if opts.XTransform == 0 {
-		opts.XTransform = TransformLog
+		opts.XTransform = xt
 	}
 	if opts.YTransform == 0 {
-		opts.YTransform = TransformReciprocal
+		opts.YTransform = yt
 	}
 	if opts.Quantity == "" {
-		opts.Quantity, opts.Unit = "pressure", "Pa"
+		opts.Quantity, opts.Unit = quantity, unit
 	}
-	r := c.Range()
 	return BuildTable(func(x, y []float64) error {
-		for i, p := range x {
-			t, err := c.Temperature(p)
+		for i, v := range x {
+			w, err := f(v)
 			if err != nil {
 				return err
 			}
-			y[i] = t
+			y[i] = w
 		}
 		return nil
-	}, r.Pmin, r.Pmax, opts)
+	}, lo, hi, opts)
 }
 
 // DefaultTransforms returns the recommended (x, y) transforms of the P(T)
