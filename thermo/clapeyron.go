@@ -66,6 +66,18 @@ func clpTemperature(t float64) error {
 	return nil
 }
 
+// clpInputs checks, in this order, the temperature t and two further
+// inputs that must be finite.
+func clpInputs(t float64, name1 string, v1 float64, name2 string, v2 float64) error {
+	if err := clpTemperature(t); err != nil {
+		return err
+	}
+	if err := clpFinite(name1, v1); err != nil {
+		return err
+	}
+	return clpFinite(name2, v2)
+}
+
 func clpResult(name string, v float64) (float64, error) {
 	if math.IsInf(v, 0) || math.IsNaN(v) {
 		return 0, fmt.Errorf("%w: %s overflows (%v)", ErrBadParam, name, v)
@@ -77,13 +89,7 @@ func clpResult(name string, v float64) (float64, error) {
 // ΔH (J/mol) and volume ΔV (m³/mol) of the change at temperature t (K).
 // ΔV = 0 gives an error wrapping ErrZeroDenominator.
 func ClapeyronSlope(t, deltaH, deltaV float64) (float64, error) {
-	if err := clpTemperature(t); err != nil {
-		return 0, err
-	}
-	if err := clpFinite("enthalpy change", deltaH); err != nil {
-		return 0, err
-	}
-	if err := clpFinite("volume change", deltaV); err != nil {
+	if err := clpInputs(t, "enthalpy change", deltaH, "volume change", deltaV); err != nil {
 		return 0, err
 	}
 	if deltaV == 0 {
@@ -95,13 +101,7 @@ func ClapeyronSlope(t, deltaH, deltaV float64) (float64, error) {
 // ClapeyronEnthalpy returns ΔH = T·ΔV·dP/dT in J/mol from the slope dpdt
 // (Pa/K) and the volume change ΔV (m³/mol) at temperature t (K).
 func ClapeyronEnthalpy(t, dpdt, deltaV float64) (float64, error) {
-	if err := clpTemperature(t); err != nil {
-		return 0, err
-	}
-	if err := clpFinite("slope dP/dT", dpdt); err != nil {
-		return 0, err
-	}
-	if err := clpFinite("volume change", deltaV); err != nil {
+	if err := clpInputs(t, "slope dP/dT", dpdt, "volume change", deltaV); err != nil {
 		return 0, err
 	}
 	return clpResult("enthalpy change", t*deltaV*dpdt)
@@ -128,13 +128,7 @@ func ClapeyronEnthalpyVolumes(t, dpdt, vHigh, vLow float64) (float64, error) {
 // change ΔH (J/mol) and the slope dpdt (Pa/K) at temperature t (K). A zero
 // slope gives an error wrapping ErrZeroDenominator.
 func ClapeyronVolume(t, dpdt, deltaH float64) (float64, error) {
-	if err := clpTemperature(t); err != nil {
-		return 0, err
-	}
-	if err := clpFinite("slope dP/dT", dpdt); err != nil {
-		return 0, err
-	}
-	if err := clpFinite("enthalpy change", deltaH); err != nil {
+	if err := clpInputs(t, "slope dP/dT", dpdt, "enthalpy change", deltaH); err != nil {
 		return 0, err
 	}
 	if dpdt == 0 {
