@@ -57,15 +57,7 @@ func (f LogPowerSumFamily) New(p Params, tmin, tmax float64) (Correlation, error
 		return nil, err
 	}
 	fn := func(t float64) (float64, float64) {
-		// θ^b − 1 as expm1(b·log1p((T − T*)/T*)), free of the
-		// cancellation near the reference point.
-		lth := math.Log1p((t - tr) / tr)
-		s, d := 0.0, 0.0
-		for i, ai := range a {
-			lt := b[i] * lth
-			s += ai * math.Expm1(lt)
-			d += ai * b[i] * math.Exp(lt)
-		}
+		s, d := powerSumTerms(0, a, b, t, tr)
 		q := pr * math.Exp(s)
 		return q, q * d / t
 	}

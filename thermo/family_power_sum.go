@@ -63,16 +63,7 @@ func (f PowerSumFamily) New(p Params, tmin, tmax float64) (Correlation, error) {
 		return nil, err
 	}
 	fn := func(t float64) (float64, float64) {
-		// ln θ as log1p((T − T*)/T*) and θ^b − 1 as expm1(b·ln θ): near the
-		// reference point P is ~1e7 times as sensitive to θ as to T/T* − 1,
-		// and θ = T/T* rounded, or x − 1, would lose ~1e-10 of P.
-		lth := math.Log1p((t - tr) / tr)
-		s, d := 1.0, 0.0
-		for i, ai := range a {
-			lt := b[i] * lth
-			s += ai * math.Expm1(lt)
-			d += ai * b[i] * math.Exp(lt)
-		}
+		s, d := powerSumTerms(1, a, b, t, tr)
 		return pr * s, pr * d / t
 	}
 	var inv inverse
@@ -84,6 +75,22 @@ func (f PowerSumFamily) New(p Params, tmin, tmax float64) (Correlation, error) {
 		}
 	}
 	return asCorrelation(newCurve(name, fn, inv, tmin, tmax, 0, math.Inf(1)))
+}
+
+// powerSumTerms returns s = s0 + Σᵢ aᵢ·(θ^bᵢ − 1) and d = Σᵢ aᵢ·bᵢ·θ^bᵢ
+// at θ = T/T*, for the power-sum and log-power-sum families. It takes ln θ
+// as log1p((T − T*)/T*) and θ^b − 1 as expm1(b·ln θ): near the reference
+// point P is ~1e7 times as sensitive to θ as to T/T* − 1, and θ = T/T*
+// rounded, or x − 1, would lose ~1e-10 of P.
+func powerSumTerms(s0 float64, a, b []float64, t, tr float64) (s, d float64) {
+	lth := math.Log1p((t - tr) / tr)
+	s = s0
+	for i, ai := range a {
+		lt := b[i] * lth
+		s += ai * math.Expm1(lt)
+		d += ai * b[i] * math.Exp(lt)
+	}
+	return s, d
 }
 
 // reducedParams reads t_ref, p_ref and the lists a and b of the reduced
