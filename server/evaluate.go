@@ -270,7 +270,7 @@ func (s *Server) tablePass(ctx context.Context, q *query, lo, hi int, p *part) {
 		var err error
 		ok := false
 		if fb != nil {
-			pt, ok = fb.fastPoint(x, q.byT, fi, fr)
+			pt, ok = thermo.TablePoint(fb.pOfT, fb.tOfP, fr, x, q.byT, fi)
 		}
 		switch {
 		case ok:
@@ -316,37 +316,6 @@ func (s *Server) tablePass(ctx context.Context, q *query, lo, hi int, p *part) {
 			q.setLatent(i, b, vl, vh)
 		}
 	}
-}
-
-// fastPoint evaluates x on branch b (index bi, range r = b.corr.Range())
-// when x lies inside the range and the tables can answer: exactly what
-// thermo.Curve returns for a point inside the range of the one branch it
-// considers (P(T) from the P(T) table; T(P) from the T(P) table with the
-// slope at T clamped into the range). ok is false otherwise, and the
-// caller takes the general path.
-func (b *branch) fastPoint(x float64, byT bool, bi int, r thermo.Range) (pt thermo.CurvePoint, ok bool) {
-	if byT {
-		if !(x > 0 && x >= r.Tmin && x <= r.Tmax) {
-			return pt, false
-		}
-		p, d, err := b.pOfT.Eval(x)
-		if err != nil {
-			return pt, false
-		}
-		return thermo.CurvePoint{Temperature: x, Pressure: p, Slope: d, Branch: bi}, true
-	}
-	if b.tOfP == nil || !(x > 0 && x >= r.Pmin && x <= r.Pmax) {
-		return pt, false
-	}
-	t, _, err := b.tOfP.Eval(x)
-	if err != nil {
-		return pt, false
-	}
-	_, d, err := b.pOfT.Eval(math.Min(math.Max(t, r.Tmin), r.Tmax))
-	if err != nil {
-		return pt, false
-	}
-	return thermo.CurvePoint{Temperature: t, Pressure: x, Slope: d, Branch: bi}, true
 }
 
 func clamp(x, lo, hi float64) float64 { return math.Min(math.Max(x, lo), hi) }

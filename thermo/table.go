@@ -1153,6 +1153,38 @@ func buildCorrelationTable(f func(float64) (float64, error), lo, hi float64, opt
 	}, lo, hi, opts)
 }
 
+// TablePoint evaluates one branch of a curve (index branch, range r) at x,
+// a temperature (byT) or a pressure, from its compiled tables pOfT (P(T))
+// and tOfP (T(P), may be nil) when x lies inside the range and the tables
+// can answer. The point is the one Curve returns there: P(T) and its slope
+// from pOfT; T(P) from tOfP, with the slope from pOfT at T clamped into
+// [Tmin, Tmax]. ok is false otherwise, and the caller takes the general
+// path. It allocates nothing.
+func TablePoint(pOfT, tOfP *Table, r Range, x float64, byT bool, branch int) (pt CurvePoint, ok bool) {
+	if byT {
+		if !(x > 0 && x >= r.Tmin && x <= r.Tmax) {
+			return pt, false
+		}
+		p, d, err := pOfT.Eval(x)
+		if err != nil {
+			return pt, false
+		}
+		return CurvePoint{Temperature: x, Pressure: p, Slope: d, Branch: branch}, true
+	}
+	if tOfP == nil || !(x > 0 && x >= r.Pmin && x <= r.Pmax) {
+		return pt, false
+	}
+	t, _, err := tOfP.Eval(x)
+	if err != nil {
+		return pt, false
+	}
+	_, d, err := pOfT.Eval(math.Min(math.Max(t, r.Tmin), r.Tmax))
+	if err != nil {
+		return pt, false
+	}
+	return CurvePoint{Temperature: t, Pressure: x, Slope: d, Branch: branch}, true
+}
+
 // DefaultTransforms returns the recommended (x, y) transforms of the P(T)
 // and T(P) tables of a curve kind.
 //

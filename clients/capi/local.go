@@ -239,33 +239,10 @@ func (ts *tableSet) evaluate(kind thermo.CurveKind, branch string, byT bool, xs 
 }
 
 // fastPoint evaluates x on the branch's tables when x lies inside its
-// range and the tables can answer: the values thermo.Curve returns there
-// (P(T) from the P(T) table; T(P) from the T(P) table with the slope at T
-// clamped into the range). ok is false otherwise.
+// range and the tables can answer (see thermo.TablePoint); ok is false
+// otherwise.
 func (b *localBranch) fastPoint(x float64, byT bool, bi int) (pt thermo.CurvePoint, ok bool) {
-	r := b.rng
-	if byT {
-		if !(x > 0 && x >= r.Tmin && x <= r.Tmax) {
-			return pt, false
-		}
-		p, d, err := b.pOfT.Eval(x)
-		if err != nil {
-			return pt, false
-		}
-		return thermo.CurvePoint{Temperature: x, Pressure: p, Slope: d, Branch: bi}, true
-	}
-	if b.tOfP == nil || !(x > 0 && x >= r.Pmin && x <= r.Pmax) {
-		return pt, false
-	}
-	t, _, err := b.tOfP.Eval(x)
-	if err != nil {
-		return pt, false
-	}
-	_, d, err := b.pOfT.Eval(math.Min(math.Max(t, r.Tmin), r.Tmax))
-	if err != nil {
-		return pt, false
-	}
-	return thermo.CurvePoint{Temperature: t, Pressure: x, Slope: d, Branch: bi}, true
+	return thermo.TablePoint(b.pOfT, b.tOfP, b.rng, x, byT, bi)
 }
 
 func setAt(s []float64, i int, v float64) {
