@@ -100,8 +100,8 @@ func branchLabel(kind phaseboundpb.CurveKind, b *phaseboundpb.Branch, branches i
 	return k + " · " + displayForm(b.GetName())
 }
 
-// fetchDiagram gathers a substance's curves and picks the axes.
-func fetchDiagram(ctx context.Context, src Source, id string, opt Options) (*diagram, error) {
+// describe asks src for substance id and refuses an answer without one.
+func describe(ctx context.Context, src Source, id string) (*phaseboundpb.Substance, error) {
 	resp, err := src.DescribeSubstance(ctx, id)
 	if err != nil {
 		return nil, err
@@ -109,6 +109,15 @@ func fetchDiagram(ctx context.Context, src Source, id string, opt Options) (*dia
 	sub := resp.GetSubstance()
 	if sub == nil {
 		return nil, fmt.Errorf("plot: the server returned no substance %q", id)
+	}
+	return sub, nil
+}
+
+// fetchDiagram gathers a substance's curves and picks the axes.
+func fetchDiagram(ctx context.Context, src Source, id string, opt Options) (*diagram, error) {
+	sub, err := describe(ctx, src, id)
+	if err != nil {
+		return nil, err
 	}
 	d := &diagram{sub: sub}
 	// First pass: coarse samples over each branch's whole validity range

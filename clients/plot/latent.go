@@ -20,13 +20,9 @@ import (
 // substance has a molar mass, kJ/mol otherwise. opt.Tmin and opt.Tmax
 // narrow the temperature axis; pressures and Data are ignored.
 func LatentHeat(ctx context.Context, src Source, id string, opt Options) (*gp.Plot, error) {
-	resp, err := src.DescribeSubstance(ctx, id)
+	sub, err := describe(ctx, src, id)
 	if err != nil {
 		return nil, err
-	}
-	sub := resp.GetSubstance()
-	if sub == nil {
-		return nil, fmt.Errorf("plot: the server returned no substance %q", id)
 	}
 	perKg := sub.GetMolarMassKgPerMol() > 0
 	unit := "kJ/mol"
