@@ -112,7 +112,7 @@ type LMResult struct {
 //	Marquardt, D. W. (1963). An algorithm for least-squares estimation of
 //	nonlinear parameters. J. SIAM 11(2), 431–441.
 //	Moré, J. J. (1978). The Levenberg–Marquardt algorithm: implementation
-//	and theory. In Numerical Analysis, Lecture Notes in Math. 630,
+//	and theory. In Numerical Analysis (G. A. Watson, ed.), LNM 630,
 //	Springer, 105–116.
 //	Nielsen, H. B. (1999). Damping parameter in Marquardt's method.
 //	Report IMM-REP-1999-05, Technical University of Denmark.

@@ -209,7 +209,7 @@ func (sc *lineScanner) quoted(q byte) string {
 	return sc.s[start:end]
 }
 
-// value skips one value, recording the keys of inline tables (also inside
+// value skips one value, noting the keys of inline tables (also inside
 // arrays) under path.
 func (sc *lineScanner) value(path string) {
 	sc.skipBlank(false)
