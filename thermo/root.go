@@ -11,14 +11,15 @@ import (
 //
 // The method keeps an interval [lo, hi] on which f changes sign. Each step
 // tries the Newton step x − f(x)/f′(x) from the current iterate; the step is
-// accepted only when it lands strictly inside the interval and, unless the
-// function is near its root, when the interval shrank by at least half over
-// the previous step. Otherwise the step bisects. Every evaluation replaces
-// one end of the interval, so the iteration can never leave the bracket and
-// converges at least as fast as bisection; near a simple root it converges
-// quadratically like Newton's method. A derivative that is zero, NaN or
-// infinite only forces bisection, so a wrong or missing derivative slows the
-// solver down but never breaks it.
+// accepted only when it lands strictly inside the interval and is at most
+// half the step before it. Otherwise the step bisects. Every third step, if
+// the interval has not halved (counted in doubles) and the Newton steps
+// relative to x have not shrunk eightfold, the step bisects regardless.
+// Every evaluation replaces one end of the interval, so the iteration can
+// never leave the bracket and converges at least as fast as bisection; near
+// a simple root it converges quadratically like Newton's method. A
+// derivative that is zero, NaN or infinite only forces bisection, so a wrong
+// or missing derivative slows the solver down but never breaks it.
 //
 // Iteration stops when f(x) is exactly zero, when the last accepted step or
 // the interval width is at most Tol·|x|, when the interval holds no double
@@ -106,7 +107,8 @@ func (r RootFinder) Solve(f func(x float64) (y, dydx float64), a, b float64) (fl
 	}
 	dxOld := math.Abs(b - a)
 	dx := dxOld
-	ref, dxRef := span(a, b), dx // bracket size and step when last checked
+	// Bracket size and relative step when last checked.
+	ref, relRef := span(a, b), relStep(dx, x)
 	for i := range maxIter {
 		fx, dfx := f(x)
 		if fx == 0 {
@@ -126,12 +128,17 @@ func (r RootFinder) Solve(f func(x float64) (y, dydx float64), a, b float64) (fl
 			return x, nil
 		}
 		// Every third step: when the bracket has not halved and the
-		// steps are not shrinking fast (Newton converging linearly, as
-		// at a multiple root), bisect.
+		// steps relative to x are not shrinking fast (Newton converging
+		// linearly, as at a multiple root), bisect. The steps are
+		// judged relative to x because the tolerance is: Newton
+		// walking towards a root far below the bracket's scale (a
+		// double root at 1e-151 seen from 0.05) halves its absolute
+		// step every iteration yet gains no relative accuracy.
 		force := false
 		if i%3 == 2 {
-			force = n > ref/2 && dx > dxRef/8
-			ref, dxRef = n, dx
+			rel := relStep(dx, x)
+			force = n > ref/2 && !(rel <= relRef/8)
+			ref, relRef = n, rel
 		}
 		// Newton step, accepted only inside the open bracket and when
 		// it shrinks fast enough.
@@ -156,6 +163,15 @@ func (r RootFinder) Solve(f func(x float64) (y, dydx float64), a, b float64) (fl
 		x = mid
 	}
 	return x, fmt.Errorf("%w: %d iterations left the bracket at [%g, %g]", ErrNoConvergence, maxIter, math.Min(lo, hi), math.Max(lo, hi))
+}
+
+// relStep returns the step dx relative to the iterate x it led to; +Inf
+// when x is zero.
+func relStep(dx, x float64) float64 {
+	if x == 0 {
+		return math.Inf(1)
+	}
+	return dx / math.Abs(x)
 }
 
 // bisect returns the midpoint of a and b (a ≠ b) in the ordered bit

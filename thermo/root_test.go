@@ -38,6 +38,11 @@ func TestRootFinder(t *testing.T) {
 		{"root at zero", func(x float64) (float64, float64) { return math.Sin(x), math.Cos(x) }, -1, 0.5, 0},
 		{"triple root at zero", func(x float64) (float64, float64) { return -x * x * x, -3 * x * x }, -49, 143, 0},
 		{"root near underflow", func(x float64) (float64, float64) { return x + 1e-300, 1 }, -6, 0, -1e-300},
+		// Newton halves x at every step towards this root far below
+		// the bracket's scale (FuzzRoot regression).
+		{"nearly double root near underflow", func(x float64) (float64, float64) {
+			return (27*x-57)*x*x + 2e-301, (81*x - 114) * x
+		}, 2, 0, math.Sqrt(2e-301 / 57)},
 		{"large scale", func(x float64) (float64, float64) { return x - 6.3e9, 1 }, 1e9, 2e10, 6.3e9},
 		{"vapour-like ln P", func(T float64) (float64, float64) { return 20 - 5000/T - math.Log(1e5), 5000 / (T * T) }, 200, 700, 5000 / (20 - math.Log(1e5))},
 	} {
