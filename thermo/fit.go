@@ -279,22 +279,48 @@ func Fit(family string, data []FitPoint, opt FitOptions) (*FitResult, error) {
 			family, tmin, tmax, err)
 	}
 	res.Residuals = make([]float64, n)
-	ss := 0.0
 	for i := range n {
 		pf, err := corr.Pressure(d.t[i])
 		if err != nil {
 			return nil, fmt.Errorf("thermo: the fitted %s curve fails at data row %d: %w", family, i+1, err)
 		}
 		dev := pf/d.p[i] - 1
+		if math.IsNaN(dev) || math.IsInf(dev, 0) {
+			return nil, fmt.Errorf("thermo: the fitted %s curve gives %g Pa at data row %d (%g K, %g Pa): the relative deviation is not a finite number; the form does not describe these data",
+				family, pf, i+1, d.t[i], d.p[i])
+		}
 		res.Residuals[i] = dev
-		ss += dev * dev
 		if a := math.Abs(dev); a > res.MaxRelDev || res.MaxRelDevRow == 0 {
 			res.MaxRelDev, res.MaxRelDevRow = a, i+1
 		}
 	}
-	res.RMSRelDev = math.Sqrt(ss / float64(n))
+	// The weights the solver used may be tiny, so its finite weighted sum
+	// says nothing about the unweighted one: a sum of squares of
+	// deviations above 1e154 overflows.
+	res.RMSRelDev = rms(res.Residuals)
+	if res.MaxRelDev > 1 {
+		res.Warnings = append(res.Warnings, fmt.Sprintf("the fitted curve misses data row %d by %.3g %% (relative deviation above 100 %%): the %s form does not describe these data; check the data, fix a parameter at a known value, or choose another family",
+			res.MaxRelDevRow, 100*res.MaxRelDev, family))
+	}
 	res.statistics(sol, m)
 	return res, nil
+}
+
+// rms returns the root mean square of xs (finite, not empty) without
+// overflow or underflow in the squares.
+func rms(xs []float64) float64 {
+	scale := 0.0
+	for _, x := range xs {
+		scale = math.Max(scale, math.Abs(x))
+	}
+	if scale == 0 {
+		return 0
+	}
+	ss := 0.0
+	for _, x := range xs {
+		ss += (x / scale) * (x / scale)
+	}
+	return scale * math.Sqrt(ss/float64(len(xs)))
 }
 
 // statistics fills StdErr, Correlation, Condition and the warnings from

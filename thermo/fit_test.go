@@ -350,12 +350,21 @@ func TestFitWarnings(t *testing.T) {
 		{"as many points as parameters", "clausius-clapeyron", sample(t, "clausius-clapeyron", Params{"t0": {350}, "p0": {4e4}, "delta_h": {4e4}}, 300, 400, 2, 0, 1), FitOptions{}, "as many points as parameters", true},
 		{"widened range", "power-sum", exact, FitOptions{Fixed: fixed(9).Fixed, Tmin: 250}, "widened below the data", false},
 		{"widened range above", "power-sum", exact, FitOptions{Fixed: fixed(9).Fixed, Tmax: 273.16}, "widened above the data", false},
+		// Pressures far below what 611.657·(1 − a₀ − a₁) can resolve at
+		// θ ≈ 0: the best fit misses by a factor of about 1e154
+		// (FuzzFitInput regression; tiny weights kept the solver's sum
+		// finite).
+		{"form cannot reach the data", "power-sum", []FitPoint{{1.4e-76, 1.4e-76, 1.4e-76}, {9.2e-72, 4.3e-168, 1.4e-76}}, fixed(3, 25.75), "relative deviation above 100 %", true},
 	}
 	for _, tc := range tests {
 		res, err := Fit(tc.family, tc.data, tc.opt)
 		if err != nil {
 			t.Errorf("%s: %v", tc.name, err)
 			continue
+		}
+		// RMS lies between the largest deviation over √n and the largest.
+		if r, m := res.RMSRelDev, res.MaxRelDev; math.IsInf(r, 0) || math.IsNaN(r) || r > m || r < m/math.Sqrt(float64(res.N))*(1-1e-15) {
+			t.Errorf("%s: RMS %g with max %g over %d points", tc.name, r, m, res.N)
 		}
 		if !strings.Contains(strings.Join(res.Warnings, "\n"), tc.contain) {
 			t.Errorf("%s: warnings %q do not say %q", tc.name, res.Warnings, tc.contain)
