@@ -238,6 +238,9 @@ func (a *app) printDemo(rep demoReport, pcm *pb.Substance) {
 			fmt.Fprintf(w, "   %-11s  %8.3f K %7.2f °C  %-8s  %8.3f MPa/K  %s\n", humanPressure(p.Pressure), p.Temperature,
 				p.Temperature-273.15, form, p.Slope/1e6, latentText(p))
 		}
+		fmt.Fprintln(w, "   The ice Ih latent heats rest on constant ice and liquid densities taken at")
+		fmt.Fprintln(w, "   0.1 MPa: good near 0 °C only, increasingly short as the pressure rises")
+		fmt.Fprintln(w, "   (see the branch's uncertainty in 'phasebound substances').")
 	}
 	if len(rep.States) > 0 {
 		fmt.Fprintf(w, "\n   Product states along the cycle (treated as water):\n")
