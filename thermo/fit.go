@@ -24,7 +24,8 @@ import (
 // reports the parameters ready for the catalog, standard errors and
 // correlations from the Jacobian at the solution (covariance
 // σ²·(JᵀJ)⁻¹, σ² = S/(n − p)), the relative deviation at every point, and
-// warnings when the data do not determine a parameter.
+// warnings when the data do not determine a parameter or the curve misses
+// them by more than 100 %.
 //
 // The fitted parameters, per family (everything else is fixed and passed in
 // FitOptions.Fixed; names as in the catalog):
