@@ -9,7 +9,7 @@ for dir in $(go list -f '{{.Dir}}' ./...); do
   targets=$(grep -hoE '^func (Fuzz[A-Za-z0-9_]+)\(' "$dir"/*_test.go 2>/dev/null | sed -E 's/^func (Fuzz[A-Za-z0-9_]+)\(/\1/' | sort -u || true)
   for t in $targets; do
     echo "fuzz: $t in ${dir#$PWD/} for ${secs}s"
-    if ! go test -run='^$' -fuzz="^${t}\$" -fuzztime="${secs}s" "$dir" >/tmp/fuzz-$t.log 2>&1; then
+    if ! go test -run='^$' -fuzz="^${t}\$" -fuzztime="${secs}s" -fuzzminimizetime=2s "$dir" >/tmp/fuzz-$t.log 2>&1; then
       cat /tmp/fuzz-$t.log
       status=1
     fi
