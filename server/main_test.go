@@ -24,7 +24,11 @@ func TestMain(m *testing.M) {
 		sdk.Serve(sdk.MustStandard(os.Args[2]))
 		return
 	}
-	os.Exit(m.Run())
+	code := m.Run()
+	if sharedServer != nil {
+		sharedServer.Close() // stops the backends and removes their socket folder
+	}
+	os.Exit(code)
 }
 
 // testCatalog is water as the IAPWS releases give it (coefficients from

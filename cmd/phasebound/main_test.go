@@ -23,13 +23,18 @@ func TestMain(m *testing.M) {
 	if len(os.Args) > 1 && os.Args[1] == "backend" {
 		os.Exit(run(os.Args[1:], os.Stdin, os.Stdout, os.Stderr))
 	}
-	os.Exit(m.Run())
+	code := m.Run()
+	if sharedSrv != nil {
+		sharedSrv.Close() // stops the backends and removes their socket folder
+	}
+	os.Exit(code)
 }
 
 var (
 	sharedOnce sync.Once
 	sharedAddr string
 	sharedErr  error
+	sharedSrv  *server.Server
 )
 
 // sharedServer serves the embedded default catalog on a loopback port for
@@ -50,6 +55,7 @@ func sharedServer(t *testing.T) string {
 			sharedErr = err
 			return
 		}
+		sharedSrv = srv
 		lis, err := net.Listen("tcp", "127.0.0.1:0")
 		if err != nil {
 			sharedErr = err

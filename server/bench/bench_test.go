@@ -28,7 +28,11 @@ func TestMain(m *testing.M) {
 		sdk.Serve(sdk.MustStandard(os.Args[2]))
 		return
 	}
-	os.Exit(m.Run())
+	code := m.Run()
+	if loop != nil {
+		loop.Close() // stops the server, its backends and their socket folder
+	}
+	os.Exit(code)
 }
 
 var (
