@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"math/bits"
 	"runtime"
 	"slices"
 	"strings"
@@ -84,6 +85,8 @@ type query struct {
 	// or extrapolation), or -1; nil when no point can need a backend.
 	route  []int32
 	failed int
+	// fast is the branch of the fast table loop (see tablePass), or -1.
+	fast int
 }
 
 // part is the state of one worker of a batch: the workers share the
@@ -94,6 +97,7 @@ type part struct {
 	failed int
 	routed bool
 	used   uint64 // bit set of the branches used
+	extrap int    // points evaluated by extrapolation
 }
 
 // parallelMin is the batch size from which the table pass is split over
@@ -146,6 +150,7 @@ func (s *Server) evaluate(ctx context.Context, snap *snapshot, req *phaseboundpb
 	}
 	q.offset = offset
 	q.latent = req.GetIncludeLatentHeat()
+	q.fast = q.fastBranch()
 	n := len(req.GetValues())
 	r := &phaseboundpb.EvaluateResponse{
 		TemperatureK:   make([]float64, n),
@@ -197,6 +202,7 @@ func (s *Server) evaluate(ctx context.Context, snap *snapshot, req *phaseboundpb
 		return nil, err
 	}
 	var used uint64
+	extrap := 0
 	routed := false
 	for k := range parts {
 		p := &parts[k]
@@ -214,6 +220,8 @@ func (s *Server) evaluate(ctx context.Context, snap *snapshot, req *phaseboundpb
 			return nil, err
 		}
 		q.failed += bp.failed
+		used |= bp.used
+		extrap += bp.extrap
 		r.Errors = append(r.Errors, bp.errs...)
 		q.sortErrors()
 		if req.GetStrict() && q.failed > 0 {
@@ -227,10 +235,34 @@ func (s *Server) evaluate(ctx context.Context, snap *snapshot, req *phaseboundpb
 			}
 		}
 	}
-	if q.noBranch == uint32(len(q.cv.names)) && q.failed > 0 {
+	q.finish(used, extrap)
+	return r, nil
+}
+
+// finish settles the per-point status and branch_index arrays. When every
+// point is OK on one branch (the usual case), the response is compact: both
+// arrays are empty and branch_names holds that branch alone, which spares
+// every batch a size, encode, count and decode pass over two integer arrays
+// (docs/performance.md). Otherwise both hold one entry per point; the
+// points the fast table loop wrote (status still unset) are OK on the
+// branch it used.
+func (q *query) finish(used uint64, extrap int) {
+	r := q.resp
+	nb := len(q.cv.names)
+	if q.failed == 0 && extrap == 0 && nb <= 64 && bits.OnesCount64(used) == 1 {
+		r.Status, r.BranchIndex = nil, nil
+		r.BranchNames = q.cv.names[bits.TrailingZeros64(used):][:1]
+		return
+	}
+	for i, st := range r.Status {
+		if st == phaseboundpb.PointStatus_POINT_STATUS_UNSPECIFIED {
+			r.Status[i] = phaseboundpb.PointStatus_POINT_STATUS_OK
+			r.BranchIndex[i] = uint32(q.fast)
+		}
+	}
+	if q.noBranch == uint32(nb) && q.failed > 0 {
 		r.BranchNames = append(append([]string(nil), q.cv.names...), "")
 	}
-	return r, nil
 }
 
 // tablePass evaluates points lo to hi-1 from the tables, choosing branches
@@ -248,24 +280,46 @@ func (s *Server) tablePass(ctx context.Context, q *query, lo, hi int, p *part) {
 	}
 	curve := q.cv.thermo
 	// Fast path (bench findings, docs/performance.md): with one branch to
-	// use (named, or the curve's only one), a point inside that branch's
-	// range is evaluated on its tables directly, skipping the per-point
+	// use (named, or the curve's only one), points inside that branch's
+	// range are evaluated on its tables directly, skipping the per-point
 	// branch search of thermo.Curve; the values are the ones Curve returns.
-	fi := q.branch
-	if fi < 0 && len(q.cv.branch) == 1 {
-		fi = 0
-	}
+	fi := q.fast
 	var fb *branch
 	var fr thermo.Range
+	// used is kept in a local and stored once: the parts of a parallel
+	// pass sit side by side in memory, and a store per point to p.used
+	// would bounce their shared cache line between the cores.
+	var used uint64
+	defer func() { p.used |= used }()
 	if fi >= 0 {
 		fb = q.cv.branch[fi]
 		fr = fb.corr.Range()
 	}
 	for i := lo; i < hi; i++ {
-		x := vals[i]
-		if i&0xffff == 0xffff && ctx.Err() != nil {
+		if i&0xffff == 0 && ctx.Err() != nil {
 			return
 		}
+		if fb != nil && !exact {
+			// The fast loop: a run of points inside the branch's range,
+			// evaluated in one call that writes T, P and dP/dT straight
+			// into the response and leaves status and branch_index to
+			// finish. It stops at a point it cannot take (out of range,
+			// invalid) or at the next cancellation check.
+			end := min(hi, (i|0xffff)+1)
+			k := thermo.TablePoints(fb.pOfT, fb.tOfP, fr, vals[i:end], q.byT,
+				r.TemperatureK[i:end], r.PressurePa[i:end], r.DpdtPaPerK[i:end])
+			if k > 0 {
+				used |= 1 << min(fi, 63)
+				if q.latent {
+					for j := i; j < i+k; j++ {
+						q.pointLatent(j, fb)
+					}
+				}
+				i += k - 1
+				continue
+			}
+		}
+		x := vals[i]
 		var pt thermo.CurvePoint
 		var err error
 		ok := false
@@ -295,7 +349,7 @@ func (s *Server) tablePass(ctx context.Context, q *query, lo, hi int, p *part) {
 			}
 			continue
 		}
-		p.used |= 1 << min(pt.Branch, 63)
+		used |= 1 << min(pt.Branch, 63)
 		r.TemperatureK[i] = pt.Temperature
 		r.PressurePa[i] = pt.Pressure
 		r.DpdtPaPerK[i] = pt.Slope
@@ -306,16 +360,36 @@ func (s *Server) tablePass(ctx context.Context, q *query, lo, hi int, p *part) {
 			continue
 		}
 		if q.latent {
-			b := q.cv.branch[pt.Branch]
-			vl, vh := math.NaN(), math.NaN()
-			if b.hasVolumes() {
-				t := clamp(pt.Temperature, b.vTmin, b.vTmax)
-				vl, _ = b.vLow.Value(t)
-				vh, _ = b.vHigh.Value(t)
-			}
-			q.setLatent(i, b, vl, vh)
+			q.pointLatent(i, q.cv.branch[pt.Branch])
 		}
 	}
+}
+
+// fastBranch returns the branch whose points the fast table loop may
+// evaluate, or -1: the branch the request names, or the curve's only one.
+// Points it takes have the values Curve would give (thermo.TablePoints);
+// everything else (seams, overlaps, extrapolation, errors) takes the
+// general path.
+func (q *query) fastBranch() int {
+	if q.branch >= 0 {
+		return q.branch
+	}
+	if len(q.cv.branch) == 1 {
+		return 0
+	}
+	return -1
+}
+
+// pointLatent fills the latent heat of table-evaluated point i on branch b
+// from the branch's phase-volume tables.
+func (q *query) pointLatent(i int, b *branch) {
+	vl, vh := math.NaN(), math.NaN()
+	if b.hasVolumes() {
+		t := clamp(q.resp.TemperatureK[i], b.vTmin, b.vTmax)
+		vl, _ = b.vLow.Value(t)
+		vh, _ = b.vHigh.Value(t)
+	}
+	q.setLatent(i, b, vl, vh)
 }
 
 func clamp(x, lo, hi float64) float64 { return math.Min(math.Max(x, lo), hi) }
@@ -513,8 +587,10 @@ func (s *Server) backendPass(ctx context.Context, q *query, p *part) error {
 				r.DpdtPaPerK[i] = res.Derivatives[k]
 				r.BranchIndex[i] = uint32(bi)
 				r.Status[i] = phaseboundpb.PointStatus_POINT_STATUS_OK
+				p.used |= 1 << min(bi, 63)
 				if outside[k] {
 					r.Status[i] = phaseboundpb.PointStatus_POINT_STATUS_EXTRAPOLATED
+					p.extrap++
 				}
 				ok = append(ok, k)
 			}

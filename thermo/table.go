@@ -967,6 +967,13 @@ func (t *Table) Eval(x float64) (y, dydx float64, err error) {
 	if !(x >= t.xmin && x <= t.xmax) {
 		return 0, 0, t.domainError(x)
 	}
+	y, dydx = t.eval(x)
+	return y, dydx, nil
+}
+
+// eval is Eval for x inside the domain: the one evaluation shared by Eval
+// and TablePoints, so both give the same bits.
+func (t *Table) eval(x float64) (y, dydx float64) {
 	var u, dudx float64
 	switch t.xt {
 	case TransformLog:
@@ -1037,17 +1044,17 @@ func (t *Table) Eval(x float64) (y, dydx float64, err error) {
 	if math.IsInf(dudx, 0) {
 		// x = x_ref of a critical-root table: the slope is infinite (or 0
 		// on a flat table), never the NaN of 0·∞.
-		return t.yt.inverse(yy), t.refSlope, nil
+		return t.yt.inverse(yy), t.refSlope
 	}
 	switch t.yt {
 	case TransformLog:
 		y = math.Exp(yy)
-		return y, y * dyu * dudx, nil
+		return y, y * dyu * dudx
 	case TransformReciprocal:
 		y = 1 / yy
-		return y, -y * y * dyu * dudx, nil
+		return y, -y * y * dyu * dudx
 	}
-	return yy, dyu * dudx, nil
+	return yy, dyu * dudx
 }
 
 // Value returns y(x) alone.
@@ -1183,6 +1190,49 @@ func TablePoint(pOfT, tOfP *Table, r Range, x float64, byT bool, branch int) (pt
 		return pt, false
 	}
 	return CurvePoint{Temperature: t, Pressure: x, Slope: d, Branch: branch}, true
+}
+
+// TablePoints evaluates a run of points like TablePoint, for xs[0],
+// xs[1], … in turn, writing point k's temperature, pressure and slope to
+// ts[k], ps[k] and ds[k] (each at least len(xs) long). It stops at the
+// first point TablePoint would refuse, which the caller then takes through
+// the general path, and returns the number of points written. The values
+// are TablePoint's bit for bit; the loop only saves the per-point call,
+// range set-up and result copies, which in a batch server cost as much as
+// the polynomial itself. It allocates nothing.
+func TablePoints(pOfT, tOfP *Table, r Range, xs []float64, byT bool, ts, ps, ds []float64) int {
+	n := len(xs)
+	ts, ps, ds = ts[:n], ps[:n], ds[:n]
+	// TablePoint accepts x > 0 inside r, and the table's Eval inside its
+	// domain; both at once is the intersection.
+	if byT {
+		lo, hi := math.Max(r.Tmin, pOfT.xmin), math.Min(r.Tmax, pOfT.xmax)
+		for k, x := range xs {
+			if !(x > 0 && x >= lo && x <= hi) {
+				return k
+			}
+			ts[k] = x
+			ps[k], ds[k] = pOfT.eval(x)
+		}
+		return n
+	}
+	if tOfP == nil {
+		return 0
+	}
+	lo, hi := math.Max(r.Pmin, tOfP.xmin), math.Min(r.Pmax, tOfP.xmax)
+	for k, x := range xs {
+		if !(x > 0 && x >= lo && x <= hi) {
+			return k
+		}
+		t, _ := tOfP.eval(x)
+		tc := math.Min(math.Max(t, r.Tmin), r.Tmax)
+		if !(tc >= pOfT.xmin && tc <= pOfT.xmax) {
+			return k
+		}
+		ts[k], ps[k] = t, x
+		_, ds[k] = pOfT.eval(tc)
+	}
+	return n
 }
 
 // DefaultTransforms returns the recommended (x, y) transforms of the P(T)

@@ -154,9 +154,53 @@ func (c *Client) DescribeSubstance(ctx context.Context, id string) (*phaseboundp
 }
 
 // Evaluate evaluates one batch in one call. Batches above a few million
-// points should go through EvaluateAll.
+// points should go through EvaluateAll. The response is expanded (see
+// Expand): status and branch_index hold one entry per point.
 func (c *Client) Evaluate(ctx context.Context, req *phaseboundpb.EvaluateRequest) (*phaseboundpb.EvaluateResponse, error) {
-	return c.rpc.Evaluate(ctx, req)
+	r, err := c.rpc.Evaluate(ctx, req)
+	if err != nil {
+		return nil, err
+	}
+	if err := Expand(r); err != nil {
+		return nil, err
+	}
+	return r, nil
+}
+
+// Expand turns a compact EvaluateResponse into the per-point form. The
+// server sends status and branch_index empty when every point is
+// POINT_STATUS_OK on one branch, whose name is then branch_names[0] (that
+// spares every batch two integer arrays on the wire); Expand fills them
+// with POINT_STATUS_OK and 0, one per point. It leaves a per-point
+// response as it is, and reports a response whose arrays disagree in
+// length, or whose branch_index points past branch_names, as malformed.
+func Expand(r *phaseboundpb.EvaluateResponse) error {
+	n := len(r.GetTemperatureK())
+	if len(r.GetPressurePa()) != n || len(r.GetDpdtPaPerK()) != n {
+		return fmt.Errorf("goclient: malformed response: %d temperatures, %d pressures, %d slopes",
+			n, len(r.GetPressurePa()), len(r.GetDpdtPaPerK()))
+	}
+	if len(r.GetStatus()) == 0 && len(r.GetBranchIndex()) == 0 {
+		if n > 0 && len(r.GetBranchNames()) != 1 {
+			return fmt.Errorf("goclient: malformed compact response: %d branch names, want 1", len(r.GetBranchNames()))
+		}
+		r.Status = make([]phaseboundpb.PointStatus, n)
+		for i := range r.Status {
+			r.Status[i] = phaseboundpb.PointStatus_POINT_STATUS_OK
+		}
+		r.BranchIndex = make([]uint32, n)
+		return nil
+	}
+	if len(r.GetStatus()) != n || len(r.GetBranchIndex()) != n {
+		return fmt.Errorf("goclient: malformed response: %d points, %d statuses, %d branch indices",
+			n, len(r.GetStatus()), len(r.GetBranchIndex()))
+	}
+	for i, b := range r.GetBranchIndex() {
+		if int(b) >= len(r.GetBranchNames()) {
+			return fmt.Errorf("goclient: malformed response: point %d names branch %d of %d", i, b, len(r.GetBranchNames()))
+		}
+	}
+	return nil
 }
 
 // LocatePhase tells the phase of each (T, P) state.

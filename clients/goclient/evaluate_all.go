@@ -22,7 +22,7 @@ import (
 // With req.Strict the first bad chunk fails the call. A stream broken by
 // UNAVAILABLE (a replica stopping, a backend restarting) is resumed on a
 // new stream from the first point not yet answered, up to maxStreamResumes
-// times in a row without progress.
+// times in a row without progress. The response is expanded (see Expand).
 func (c *Client) EvaluateAll(ctx context.Context, req *phaseboundpb.EvaluateRequest) (*phaseboundpb.EvaluateResponse, error) {
 	chunk := c.ChunkPoints
 	if chunk <= 0 {
@@ -35,8 +35,14 @@ func (c *Client) EvaluateAll(ctx context.Context, req *phaseboundpb.EvaluateRequ
 			// gRPC's own retries (the service config) cover a replica
 			// going away; a backend plugin restarting under an exact
 			// evaluation takes longer, so keep trying as for streams.
-			if err == nil || !resumable(ctx, err, attempt) {
-				return resp, err
+			if err == nil {
+				if err := Expand(resp); err != nil {
+					return nil, err
+				}
+				return resp, nil
+			}
+			if !resumable(ctx, err, attempt) {
+				return nil, err
 			}
 		}
 	}
@@ -178,9 +184,11 @@ func newMerged(req *phaseboundpb.EvaluateRequest, n int) *merged {
 func (m *merged) add(msg *phaseboundpb.EvaluateStreamResponse) (int, error) {
 	c := msg.GetResponse()
 	off := msg.GetOffset()
+	if err := Expand(c); err != nil {
+		return 0, fmt.Errorf("%w (stream chunk at offset %d)", err, off)
+	}
 	k := len(c.GetStatus())
-	if off+uint64(k) > uint64(m.n) || len(c.GetTemperatureK()) != k || len(c.GetPressurePa()) != k ||
-		len(c.GetDpdtPaPerK()) != k || len(c.GetBranchIndex()) != k {
+	if off+uint64(k) > uint64(m.n) {
 		return 0, fmt.Errorf("goclient: malformed stream chunk at offset %d (%d points of %d)", off, k, m.n)
 	}
 	r := m.resp

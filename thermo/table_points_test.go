@@ -1,0 +1,93 @@
+package thermo
+
+import (
+	"math"
+	"testing"
+)
+
+// TablePoints gives TablePoint's values bit for bit and stops exactly at
+// the first point TablePoint refuses, on every published branch of water
+// and carbon dioxide (IAPWS R14-08 melting and sublimation, IAPWS-IF97
+// saturation, Span-Wagner carbon dioxide), both ways.
+func TestTablePointsMatchesTablePoint(t *testing.T) {
+	for _, br := range tstRealBranches(t) {
+		po, to := DefaultTransforms(br.kind)
+		pt, err := BuildPressureTable(br.corr, po)
+		if err != nil {
+			t.Fatal(err)
+		}
+		tp, err := BuildTemperatureTable(br.corr, to)
+		if err != nil {
+			t.Fatal(err)
+		}
+		r := br.corr.Range()
+		for _, byT := range []bool{true, false} {
+			lo, hi := r.Pmin, r.Pmax
+			if byT {
+				lo, hi = r.Tmin, r.Tmax
+			}
+			xs := benchPoints(lo, hi, 2000, !byT)
+			// Both ends exactly, then points TablePoint refuses: just
+			// outside, NaN, ±Inf, zero and negative.
+			xs = append(xs, lo, hi, math.Nextafter(lo, 0), math.Nextafter(hi, math.Inf(1)),
+				math.NaN(), math.Inf(1), math.Inf(-1), 0, -lo, 3)
+			for start := 0; start < len(xs); {
+				n := len(xs) - start
+				ts, ps, ds := make([]float64, n), make([]float64, n), make([]float64, n)
+				k := TablePoints(pt, tp, r, xs[start:], byT, ts, ps, ds)
+				for j := 0; j < k; j++ {
+					want, ok := TablePoint(pt, tp, r, xs[start+j], byT, 7)
+					if !ok {
+						t.Fatalf("%s byT=%v: TablePoints wrote x = %g, which TablePoint refuses", br.name, byT, xs[start+j])
+					}
+					if !sameBits(ts[j], want.Temperature) || !sameBits(ps[j], want.Pressure) || !sameBits(ds[j], want.Slope) {
+						t.Fatalf("%s byT=%v at %g: (%v, %v, %v), TablePoint (%v, %v, %v)", br.name, byT, xs[start+j],
+							ts[j], ps[j], ds[j], want.Temperature, want.Pressure, want.Slope)
+					}
+				}
+				if start+k < len(xs) {
+					if _, ok := TablePoint(pt, tp, r, xs[start+k], byT, 7); ok {
+						t.Fatalf("%s byT=%v: TablePoints stopped at x = %g, which TablePoint accepts", br.name, byT, xs[start+k])
+					}
+				}
+				start += k + 1
+			}
+		}
+	}
+}
+
+func sameBits(a, b float64) bool { return math.Float64bits(a) == math.Float64bits(b) }
+
+// BenchmarkTablePoints measures the batch loop the server's table pass
+// uses, against one TablePoint call per point, on IAPWS-IF97 saturation
+// P(T) (ns/op is per batch of 1024 points; see ns/point).
+func BenchmarkTablePoints(b *testing.B) {
+	c := tstWaterSaturation(b).Branches[0].Corr
+	po, _ := DefaultTransforms(Saturation)
+	pt, err := BuildPressureTable(c, po)
+	if err != nil {
+		b.Fatal(err)
+	}
+	r := c.Range()
+	xs := benchPoints(r.Tmin, r.Tmax, 1024, false)
+	ts, ps, ds := make([]float64, 1024), make([]float64, 1024), make([]float64, 1024)
+	b.Run("one-by-one", func(b *testing.B) {
+		b.ReportAllocs()
+		for b.Loop() {
+			for k, x := range xs {
+				p, _ := TablePoint(pt, nil, r, x, true, 0)
+				ts[k], ps[k], ds[k] = p.Temperature, p.Pressure, p.Slope
+			}
+		}
+		b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/1024, "ns/point")
+	})
+	b.Run("batch", func(b *testing.B) {
+		b.ReportAllocs()
+		for b.Loop() {
+			if TablePoints(pt, nil, r, xs, true, ts, ps, ds) != len(xs) {
+				b.Fatal("short batch")
+			}
+		}
+		b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/1024, "ns/point")
+	})
+}
