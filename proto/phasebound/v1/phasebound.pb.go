@@ -1364,15 +1364,24 @@ func (x *PointError) GetValidMax() float64 {
 
 // EvaluateResponse holds per-point results, index-aligned with the request.
 // Failed points carry NaN and a status other than OK.
+//
+// Compact form: when every point is POINT_STATUS_OK on one branch (the
+// usual case), status and branch_index are both empty and branch_names
+// holds that branch's name alone. Otherwise both hold one entry per point.
+// Test len(status) == 0, not the values, to tell the forms apart; the Go
+// client's Expand turns a compact response into the per-point form. The
+// compact form spares every batch two integer arrays on the wire.
 type EvaluateResponse struct {
 	state        protoimpl.MessageState `protogen:"open.v1"`
 	TemperatureK []float64              `protobuf:"fixed64,1,rep,packed,name=temperature_k,json=temperatureK,proto3" json:"temperature_k,omitempty"`
 	PressurePa   []float64              `protobuf:"fixed64,2,rep,packed,name=pressure_pa,json=pressurePa,proto3" json:"pressure_pa,omitempty"`
 	DpdtPaPerK   []float64              `protobuf:"fixed64,3,rep,packed,name=dpdt_pa_per_k,json=dpdtPaPerK,proto3" json:"dpdt_pa_per_k,omitempty"`
-	// Index into branch_names of the branch each point used.
-	BranchIndex []uint32      `protobuf:"varint,4,rep,packed,name=branch_index,json=branchIndex,proto3" json:"branch_index,omitempty"`
-	BranchNames []string      `protobuf:"bytes,5,rep,name=branch_names,json=branchNames,proto3" json:"branch_names,omitempty"`
-	Status      []PointStatus `protobuf:"varint,6,rep,packed,name=status,proto3,enum=phasebound.v1.PointStatus" json:"status,omitempty"`
+	// Index into branch_names of the branch each point used; empty in the
+	// compact form (every point on branch_names[0]).
+	BranchIndex []uint32 `protobuf:"varint,4,rep,packed,name=branch_index,json=branchIndex,proto3" json:"branch_index,omitempty"`
+	BranchNames []string `protobuf:"bytes,5,rep,name=branch_names,json=branchNames,proto3" json:"branch_names,omitempty"`
+	// Outcome of each point; empty in the compact form (every point OK).
+	Status []PointStatus `protobuf:"varint,6,rep,packed,name=status,proto3,enum=phasebound.v1.PointStatus" json:"status,omitempty"`
 	// One entry per failed point, in index order.
 	Errors []*PointError `protobuf:"bytes,7,rep,name=errors,proto3" json:"errors,omitempty"`
 	// Present when include_latent_heat was set.
