@@ -125,6 +125,7 @@ func TestSaturatedVolumeTablesToCriticalPoint(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
+			expand(t, resp[i])
 		}
 		var worst, worstT float64
 		for i, temp := range ts {

@@ -53,6 +53,7 @@ func TestEvaluateReferenceValues(t *testing.T) {
 			if err != nil {
 				t.Fatalf("%s (exact %v): %v", tt.name, exact, err)
 			}
+			expand(t, resp)
 			if resp.Status[0] != pb.PointStatus_POINT_STATUS_OK {
 				t.Fatalf("%s (exact %v): status %v %v", tt.name, exact, resp.Status[0], resp.Errors)
 			}
@@ -106,6 +107,8 @@ func TestTablesAgreeWithBackend(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
+		expand(t, tab)
+		expand(t, ex)
 		for i := range vals {
 			if tab.Status[i] != ex.Status[i] {
 				t.Fatalf("%v %s at %g: table status %v, exact %v", q.curve, q.branch, vals[i], tab.Status[i], ex.Status[i])

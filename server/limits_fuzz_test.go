@@ -101,10 +101,22 @@ func checkEvaluate(t *testing.T, req *phaseboundpb.EvaluateRequest, resp any, er
 	}
 	r := resp.(*phaseboundpb.EvaluateResponse)
 	n := len(req.GetValues())
-	if len(r.GetStatus()) != n || len(r.GetPressurePa()) != n || len(r.GetTemperatureK()) != n || len(r.GetDpdtPaPerK()) != n {
-		t.Fatalf("Evaluate: %d points but %d statuses, %d pressures, %d temperatures, %d slopes",
-			n, len(r.GetStatus()), len(r.GetPressurePa()), len(r.GetTemperatureK()), len(r.GetDpdtPaPerK()))
+	if len(r.GetPressurePa()) != n || len(r.GetTemperatureK()) != n || len(r.GetDpdtPaPerK()) != n {
+		t.Fatalf("Evaluate: %d points but %d pressures, %d temperatures, %d slopes",
+			n, len(r.GetPressurePa()), len(r.GetTemperatureK()), len(r.GetDpdtPaPerK()))
 	}
+	// Either the compact form (every point OK on one branch: no statuses,
+	// no branch indices, one branch name) or one status and branch index
+	// per point.
+	ns, nb := len(r.GetStatus()), len(r.GetBranchIndex())
+	compact := ns == 0 && nb == 0 && n > 0 && len(r.GetBranchNames()) == 1
+	if !compact && (ns != n || nb != n) {
+		t.Fatalf("Evaluate: %d points but %d statuses, %d branch indices, %d branch names", n, ns, nb, len(r.GetBranchNames()))
+	}
+	if compact && len(r.GetErrors()) != 0 {
+		t.Fatalf("Evaluate: compact form with %d point errors", len(r.GetErrors()))
+	}
+	expand(t, r)
 	failed := 0
 	for i, st := range r.GetStatus() {
 		p, tk := r.GetPressurePa()[i], r.GetTemperatureK()[i]
