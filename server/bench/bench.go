@@ -565,9 +565,15 @@ func check(ctx context.Context, cfg Config, d *caseData, rep *Report) error {
 	return nil
 }
 
+// allOK checks that r answers all n points with no failure. The server
+// answers such a batch in the compact form (status and branch_index empty,
+// every point OK on branch_names[0]); a per-point answer is accepted too.
 func allOK(r *phaseboundpb.EvaluateResponse, n int) error {
-	if len(r.GetStatus()) != n || len(r.GetPressurePa()) != n {
-		return fmt.Errorf("server answered %d points for %d", len(r.GetStatus()), n)
+	if len(r.GetPressurePa()) != n || len(r.GetTemperatureK()) != n || len(r.GetDpdtPaPerK()) != n {
+		return fmt.Errorf("server answered %d points for %d", len(r.GetPressurePa()), n)
+	}
+	if s := len(r.GetStatus()); s != 0 && s != n {
+		return fmt.Errorf("server answered %d statuses for %d points", s, n)
 	}
 	if len(r.GetErrors()) > 0 {
 		e := r.GetErrors()[0]
