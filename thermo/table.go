@@ -257,9 +257,14 @@ type Table struct {
 	coeffs   []float64
 	invWidth []float64 // 1/(breaks[i+1]−breaks[i])
 	// cd interleaves each segment's coefficients with those of its
-	// derivative in u: cd[2k] = c_k, cd[2k+1] = d_k (see chebInterleave);
-	// segment i is cd[2·offsets[i] : 2·offsets[i+1]].
+	// derivative in u: cd[2k] = c_k, cd[2k+1] = d_k (see chebInterleave),
+	// every segment padded with zeros to the same even count of terms, so
+	// that segment i is cd[i·stride : (i+1)·stride] (stride = 2 × terms).
+	// Equal lengths make Eval's loop the same for every segment: with the
+	// truncated lengths, points on random segments mispredicted its exit.
+	// The zero terms add exact zeros, so values do not change.
 	cd         []float64
+	stride     int
 	xmin, xmax float64
 	maxRel     float64
 	// xref is x_ref of TransformCriticalRoot (NaN for the others) and
@@ -870,6 +875,13 @@ func newTable(d TableData, quantity, unit string) (*Table, error) {
 		maxRel:   d.MaxRelError,
 		quantity: quantity, unit: unit,
 	}
+	terms := 4 // at least T_0…T_3, as Eval's unrolled start reads them
+	for i := 0; i < nseg; i++ {
+		terms = max(terms, int(t.offsets[i+1]-t.offsets[i]))
+	}
+	terms += terms & 1
+	t.stride = 2 * terms
+	t.cd = make([]float64, 0, nseg*t.stride)
 	minW := math.Inf(1)
 	for i := 0; i < nseg; i++ {
 		w := t.breaks[i+1] - t.breaks[i]
@@ -879,6 +891,7 @@ func newTable(d TableData, quantity, unit string) (*Table, error) {
 		t.invWidth[i] = 1 / w
 		minW = math.Min(minW, w)
 		t.cd = chebInterleave(t.cd, t.coeffs[t.offsets[i]:t.offsets[i+1]], 2*t.invWidth[i])
+		t.cd = append(t.cd, make([]float64, (i+1)*t.stride-len(t.cd))...)
 	}
 	full := t.breaks[nseg] - t.breaks[0]
 	// Sixteen bins per segment on average, and at least two per narrowest
@@ -1007,13 +1020,38 @@ func (t *Table) eval(x float64) (y, dydx float64) {
 		i = t.segment(u)
 	}
 	s := ((u - t.breaks[i]) - (t.breaks[i+1] - u)) * t.invWidth[i]
-	cd := t.cd[2*t.offsets[i] : 2*t.offsets[i+1]]
 	var yy, dyu float64
-	if m := len(cd) / 2; m < 4 {
-		yy, dyu = chebEval(cd, s)
+	if t.stride == 16 {
+		// Eight terms (the default node count): the loop below unrolled
+		// over a fixed-size array, without its bounds checks; the same
+		// operations in the same order.
+		c := (*[16]float64)(t.cd[i*16 : i*16+16])
+		w := 2*s*s - 1
+		w2 := 2 * w
+		t3 := s * (w2 - 1)
+		ye, de := c[0]+c[4]*w, c[1]+c[5]*w
+		yo, do := c[2]*s, c[3]*s
+		yo += c[6] * t3
+		do += c[7] * t3
+		t4 := w2*w - 1
+		t5 := w2*t3 - s
+		ye += c[8] * t4
+		de += c[9] * t4
+		yo += c[10] * t5
+		do += c[11] * t5
+		t6 := w2*t4 - w
+		t7 := w2*t5 - t3
+		ye += c[12] * t6
+		de += c[13] * t6
+		yo += c[14] * t7
+		do += c[15] * t7
+		yy, dyu = ye+yo, de+do
 	} else {
-		// chebEval inlined (same operations in the same order, so the
-		// build-time error measurement holds for Eval bit for bit).
+		cd := t.cd[i*t.stride : (i+1)*t.stride]
+		// chebEval inlined over the zero-padded terms (the same
+		// operations in the same order plus exact zeros, so the
+		// build-time error measurement holds for Eval).
+		m := len(cd) / 2
 		w := 2*s*s - 1
 		w2 := 2 * w
 		e0, e1 := 1.0, w
@@ -1033,11 +1071,6 @@ func (t *Table) eval(x float64) (y, dydx float64) {
 			do += p[3] * o2
 			e0, e1 = e1, e2
 			o0, o1 = o1, o2
-		}
-		if k < m {
-			e2 := w2*e1 - e0
-			ye += cd[2*k] * e2
-			de += cd[2*k+1] * e2
 		}
 		yy, dyu = ye+yo, de+do
 	}
