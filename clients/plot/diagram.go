@@ -44,7 +44,7 @@ func sampleBranch(ctx context.Context, src Source, id string, kind phaseboundpb.
 		if len(vals) == 0 {
 			return nil
 		}
-		resp, err := src.Evaluate(ctx, &phaseboundpb.EvaluateRequest{
+		resp, err := evaluate(ctx, src, &phaseboundpb.EvaluateRequest{
 			Substance: id, Curve: kind, Branch: branch, Given: given, Values: vals,
 		})
 		if err != nil {

@@ -69,7 +69,7 @@ func LatentHeat(ctx context.Context, src Source, id string, opt Options) (*gp.Pl
 				ts[i] = t0 + (t1-t0)*float64(i)/(n-1)
 			}
 			ts[n-1] = t1
-			r, err := src.Evaluate(ctx, &phaseboundpb.EvaluateRequest{
+			r, err := evaluate(ctx, src, &phaseboundpb.EvaluateRequest{
 				Substance: id, Curve: c.GetKind(), Branch: b.GetName(),
 				Given: phaseboundpb.Variable_VARIABLE_TEMPERATURE, Values: ts, IncludeLatentHeat: true,
 			})

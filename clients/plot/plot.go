@@ -20,6 +20,7 @@ import (
 	"gonum.org/v1/plot/vg/vgimg"
 	"gonum.org/v1/plot/vg/vgsvg"
 
+	"github.com/phasebound/phasebound/clients/goclient"
 	phaseboundpb "github.com/phasebound/phasebound/proto/phasebound/v1"
 )
 
@@ -29,6 +30,21 @@ type Source interface {
 	DescribeSubstance(ctx context.Context, id string) (*phaseboundpb.DescribeSubstanceResponse, error)
 	Evaluate(ctx context.Context, req *phaseboundpb.EvaluateRequest) (*phaseboundpb.EvaluateResponse, error)
 	LocatePhase(ctx context.Context, req *phaseboundpb.LocatePhaseRequest) (*phaseboundpb.LocatePhaseResponse, error)
+}
+
+// evaluate asks src for req and returns the answer in the per-point form,
+// one status and branch index per point: a Source may answer in the
+// compact form (status and branch_index empty when every point is OK on
+// one branch), which goclient.Expand turns into the per-point one.
+func evaluate(ctx context.Context, src Source, req *phaseboundpb.EvaluateRequest) (*phaseboundpb.EvaluateResponse, error) {
+	r, err := src.Evaluate(ctx, req)
+	if err != nil {
+		return nil, err
+	}
+	if err := goclient.Expand(r); err != nil {
+		return nil, err
+	}
+	return r, nil
 }
 
 // Point is a measured state, K and Pa.

@@ -109,7 +109,7 @@ func ResidualsAgainst(ctx context.Context, src Source, id string, kind phaseboun
 	for i, q := range data {
 		ts[i] = q.T
 	}
-	r, err := src.Evaluate(ctx, &phaseboundpb.EvaluateRequest{
+	r, err := evaluate(ctx, src, &phaseboundpb.EvaluateRequest{
 		Substance: id, Curve: kind, Branch: branch, Given: phaseboundpb.Variable_VARIABLE_TEMPERATURE, Values: ts,
 	})
 	if err != nil {

@@ -160,6 +160,11 @@ func (fakeSource) Evaluate(_ context.Context, req *phaseboundpb.EvaluateRequest)
 			r.LatentHeatJPerMol[i], r.LatentHeatJPerKg[i] = h, h/fkMolarMass
 		}
 	}
+	if len(r.Errors) == 0 && n > 0 {
+		// Every point OK on the one branch: the compact form, as the
+		// server sends it.
+		r.Status, r.BranchIndex = nil, nil
+	}
 	return r, nil
 }
 
