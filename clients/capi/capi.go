@@ -293,6 +293,10 @@ func phasebound_evaluate(client C.int64_t, substance *C.char, curve C.int, branc
 		err = serverError(rerr)
 		return
 	}
+	// EvaluateAll answers in the per-point form (goclient.Expand): the
+	// server's compact form, where every point is OK on one branch and
+	// status is empty, arrives here as one POINT_STATUS_OK per point, so
+	// the caller's status array is always filled.
 	m := int(n)
 	if len(r.GetStatus()) != m || len(r.GetPressurePa()) != m || len(r.GetTemperatureK()) != m || len(r.GetDpdtPaPerK()) != m ||
 		(latent != nil && len(r.GetLatentHeatJPerKg()) != m) {

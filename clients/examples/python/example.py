@@ -6,7 +6,9 @@ grpc_tools.protoc on proto/phasebound/v1/phasebound.proto into a build
 directory on PYTHONPATH); nothing generated is checked in.
 
 Checks IAPWS-IF97 values through the table and exact paths, a batch with a
-bad point (per-point statuses), latent heats and a bad request (a gRPC
+bad point (per-point statuses), a batch of good points (which may come
+back in the compact form: no statuses when every point is OK on one
+branch), latent heats and a bad request (a gRPC
 error with a clear message). Exits non-zero on a mismatch.
 Usage: PHASEBOUND_SERVER=127.0.0.1:50051 python3 example.py
 """
@@ -30,6 +32,22 @@ def expect(what, got, want, rel_tol):
         failures += 1
     else:
         print(f"ok   {what}: {got:.12g}")
+
+
+def statuses(r):
+    """One status per point. The server answers a batch whose points are
+    all OK on one branch in a compact form: status and branch_index empty,
+    branch_names[0] the branch. Otherwise status has an entry per point."""
+    if len(r.status) == 0:
+        return [pb.POINT_STATUS_OK] * len(r.pressure_pa)
+    return list(r.status)
+
+
+def branch(r, i):
+    """The name of the branch point i of r was evaluated on."""
+    if len(r.branch_index) == 0:
+        return r.branch_names[0]
+    return r.branch_names[r.branch_index[i]]
 
 
 def main():
@@ -60,11 +78,23 @@ def main():
         # A batch with latent heats, and a bad point among good ones.
         r = evaluate(values=[373.124, 400.0, -1.0], include_latent_heat=True, **sat)
         expect("latent heat at 373.124 K [J/kg]", r.latent_heat_j_per_kg[0], 2257e3, 3e-3)  # about 2257 kJ/kg at the normal boiling point, common practice
-        if list(r.status) != [pb.POINT_STATUS_OK, pb.POINT_STATUS_OK, pb.POINT_STATUS_INVALID] or not math.isnan(r.pressure_pa[2]):
-            print(f"FAIL statuses {list(r.status)}, want OK, OK, INVALID with NaN", file=sys.stderr)
+        if statuses(r) != [pb.POINT_STATUS_OK, pb.POINT_STATUS_OK, pb.POINT_STATUS_INVALID] or not math.isnan(r.pressure_pa[2]):
+            print(f"FAIL statuses {statuses(r)}, want OK, OK, INVALID with NaN", file=sys.stderr)
             failures += 1
         else:
             print(f"ok   bad point reported per point: {r.errors[0].message}")
+
+        # A batch of good points on one named branch: every status OK, on
+        # that branch (in the compact form when the server sends it).
+        r = evaluate(substance="water", curve=pb.CURVE_KIND_MELTING, branch="ice-Ih", given=pb.VARIABLE_TEMPERATURE,
+                     values=[255.0, 260.0, 270.0])
+        got = [(s, branch(r, i)) for i, s in enumerate(statuses(r))]
+        if got != [(pb.POINT_STATUS_OK, "ice-Ih")] * 3 or len(r.errors) != 0:
+            print(f"FAIL ice-Ih batch: statuses and branches {got}, errors {list(r.errors)}", file=sys.stderr)
+            failures += 1
+        else:
+            form = "compact" if len(r.status) == 0 else "per point"
+            print(f"ok   ice-Ih batch: 3 points OK on {branch(r, 0)} ({form} answer)")
 
         # A bad request is a gRPC error with a message naming the choices.
         try:
