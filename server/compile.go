@@ -305,7 +305,23 @@ func (s *Server) compileBranch(ctx context.Context, cv *curve, cb *catalog.Branc
 	pOpt.Quantity, pOpt.Unit = "temperature", "K"
 	tOpt.Quantity, tOpt.Unit = "pressure", "Pa"
 
-	b.pOfT, err = s.buildTable(sp.fill(sdk.OpPressure), cb.Tmin, cb.Tmax, pOpt, "P(T)", false)
+	if cv.kind == thermo.Sublimation {
+		// Identity P(T) (no exp per point) unless the curve spans too
+		// many decades of pressure for it; see thermo.DefaultTransforms.
+		o := pOpt
+		o.Tolerance, o.MaxSegments = s.opts.TableTolerance, thermo.SublimationIdentityMaxSegments
+		b.pOfT, err = thermo.BuildTable(sp.fill(sdk.OpPressure), cb.Tmin, cb.Tmax, o)
+		var te *thermo.ToleranceError
+		if errors.As(err, &te) {
+			fb := thermo.SublimationFallback()
+			pOpt.XTransform, pOpt.YTransform = fb.XTransform, fb.YTransform
+			b.pOfT, err = s.buildTable(sp.fill(sdk.OpPressure), cb.Tmin, cb.Tmax, pOpt, "P(T)", false)
+		} else if err != nil {
+			err = fmt.Errorf("P(T) table: %w", err)
+		}
+	} else {
+		b.pOfT, err = s.buildTable(sp.fill(sdk.OpPressure), cb.Tmin, cb.Tmax, pOpt, "P(T)", false)
+	}
 	if err != nil {
 		return nil, 0, err
 	}
