@@ -158,7 +158,7 @@ func (s *Server) evaluate(ctx context.Context, snap *snapshot, req *phaseboundpb
 		DpdtPaPerK:     make([]float64, n),
 		BranchIndex:    make([]uint32, n),
 		Status:         make([]phaseboundpb.PointStatus, n),
-		BranchNames:    q.cv.names,
+		BranchNames:    q.cv.names[:len(q.cv.names):len(q.cv.names)],
 		Exact:          req.GetExact(),
 		CatalogVersion: snap.version,
 	}
@@ -251,7 +251,8 @@ func (q *query) finish(used uint64, extrap int) {
 	nb := len(q.cv.names)
 	if q.failed == 0 && extrap == 0 && nb <= 64 && bits.OnesCount64(used) == 1 {
 		r.Status, r.BranchIndex = nil, nil
-		r.BranchNames = q.cv.names[bits.TrailingZeros64(used):][:1]
+		b := bits.TrailingZeros64(used)
+		r.BranchNames = q.cv.names[b : b+1 : b+1] // no spare capacity: callers may append
 		return
 	}
 	for i, st := range r.Status {
