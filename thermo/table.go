@@ -1240,7 +1240,19 @@ func TablePoints(pOfT, tOfP *Table, r Range, xs []float64, byT bool, ts, ps, ds 
 	// domain; both at once is the intersection.
 	if byT {
 		lo, hi := math.Max(r.Tmin, pOfT.xmin), math.Min(r.Tmax, pOfT.xmax)
-		for k, x := range xs {
+		k := 0
+		if pOfT.pairable() {
+			for ; k+1 < n; k += 2 {
+				x0, x1 := xs[k], xs[k+1]
+				if !(x0 > 0 && x0 >= lo && x0 <= hi && x1 > 0 && x1 >= lo && x1 <= hi) {
+					break
+				}
+				ts[k], ts[k+1] = x0, x1
+				ps[k], ds[k], ps[k+1], ds[k+1] = pOfT.evalPair(x0, x1)
+			}
+		}
+		for ; k < n; k++ {
+			x := xs[k]
 			if !(x > 0 && x >= lo && x <= hi) {
 				return k
 			}
@@ -1253,7 +1265,25 @@ func TablePoints(pOfT, tOfP *Table, r Range, xs []float64, byT bool, ts, ps, ds 
 		return 0
 	}
 	lo, hi := math.Max(r.Pmin, tOfP.xmin), math.Min(r.Pmax, tOfP.xmax)
-	for k, x := range xs {
+	k := 0
+	if tOfP.pairable() && pOfT.pairable() {
+		for ; k+1 < n; k += 2 {
+			x0, x1 := xs[k], xs[k+1]
+			if !(x0 > 0 && x0 >= lo && x0 <= hi && x1 > 0 && x1 >= lo && x1 <= hi) {
+				break
+			}
+			t0, _, t1, _ := tOfP.evalPair(x0, x1)
+			tc0 := math.Min(math.Max(t0, r.Tmin), r.Tmax)
+			tc1 := math.Min(math.Max(t1, r.Tmin), r.Tmax)
+			if !(tc0 >= pOfT.xmin && tc0 <= pOfT.xmax && tc1 >= pOfT.xmin && tc1 <= pOfT.xmax) {
+				break
+			}
+			ts[k], ps[k], ts[k+1], ps[k+1] = t0, x0, t1, x1
+			_, ds[k], _, ds[k+1] = pOfT.evalPair(tc0, tc1)
+		}
+	}
+	for ; k < n; k++ {
+		x := xs[k]
 		if !(x > 0 && x >= lo && x <= hi) {
 			return k
 		}
