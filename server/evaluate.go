@@ -87,6 +87,20 @@ type query struct {
 	failed int
 	// fast is the branch of the fast table loop (see tablePass), or -1.
 	fast int
+	// perPointOnce allocates resp.Status and resp.BranchIndex (perPoint).
+	perPointOnce sync.Once
+}
+
+// perPoint allocates the response's status and branch_index arrays on
+// first use. The fast table loop never writes them, so a batch that is all
+// OK on one branch (answered in the compact form) never allocates them;
+// every other writer calls perPoint first. Safe from the parallel parts.
+func (q *query) perPoint() {
+	q.perPointOnce.Do(func() {
+		n := len(q.req.GetValues())
+		q.resp.Status = make([]phaseboundpb.PointStatus, n)
+		q.resp.BranchIndex = make([]uint32, n)
+	})
 }
 
 // part is the state of one worker of a batch: the workers share the
@@ -156,8 +170,6 @@ func (s *Server) evaluate(ctx context.Context, snap *snapshot, req *phaseboundpb
 		TemperatureK:   make([]float64, n),
 		PressurePa:     make([]float64, n),
 		DpdtPaPerK:     make([]float64, n),
-		BranchIndex:    make([]uint32, n),
-		Status:         make([]phaseboundpb.PointStatus, n),
 		BranchNames:    q.cv.names[:len(q.cv.names):len(q.cv.names)],
 		Exact:          req.GetExact(),
 		CatalogVersion: snap.version,
@@ -255,6 +267,7 @@ func (q *query) finish(used uint64, extrap int) {
 		r.BranchNames = q.cv.names[b : b+1 : b+1] // no spare capacity: callers may append
 		return
 	}
+	q.perPoint()
 	for i, st := range r.Status {
 		if st == phaseboundpb.PointStatus_POINT_STATUS_UNSPECIFIED {
 			r.Status[i] = phaseboundpb.PointStatus_POINT_STATUS_OK
@@ -354,6 +367,7 @@ func (s *Server) tablePass(ctx context.Context, q *query, lo, hi int, p *part) {
 		r.TemperatureK[i] = pt.Temperature
 		r.PressurePa[i] = pt.Pressure
 		r.DpdtPaPerK[i] = pt.Slope
+		q.perPoint()
 		r.BranchIndex[i] = uint32(pt.Branch)
 		r.Status[i] = phaseboundpb.PointStatus_POINT_STATUS_OK
 		if exact {
@@ -461,6 +475,7 @@ func (q *query) failStatus(p *part, i int, st phaseboundpb.PointStatus, pe *phas
 	r := q.resp
 	nan := math.NaN()
 	pe.Status = st
+	q.perPoint()
 	r.Status[i] = st
 	r.TemperatureK[i], r.PressurePa[i], r.DpdtPaPerK[i] = nan, nan, nan
 	if q.byT {
@@ -586,6 +601,7 @@ func (s *Server) backendPass(ctx context.Context, q *query, p *part) error {
 					r.TemperatureK[i], r.PressurePa[i] = res.Results[k], vals[i]
 				}
 				r.DpdtPaPerK[i] = res.Derivatives[k]
+				q.perPoint()
 				r.BranchIndex[i] = uint32(bi)
 				r.Status[i] = phaseboundpb.PointStatus_POINT_STATUS_OK
 				p.used |= 1 << min(bi, 63)
