@@ -256,13 +256,14 @@ type Table struct {
 	offsets  []uint32
 	coeffs   []float64
 	invWidth []float64 // 1/(breaks[i+1]−breaks[i])
-	// cd interleaves each segment's coefficients with those of its
-	// derivative in u: cd[2k] = c_k, cd[2k+1] = d_k (see chebInterleave),
-	// every segment padded with zeros to the same even count of terms, so
-	// that segment i is cd[i·stride : (i+1)·stride] (stride = 2 × terms).
-	// Equal lengths make Eval's loop the same for every segment: with the
-	// truncated lengths, points on random segments mispredicted its exit.
-	// The zero terms add exact zeros, so values do not change.
+	// cd holds each segment's evaluation coefficients interleaved with
+	// those of its derivative in u (segmentCoefficients): the monomial
+	// form for segments of up to monoTerms terms, else the Chebyshev form
+	// (chebInterleave), every segment padded with zeros to one even count
+	// of terms, so that segment i is cd[i·stride : (i+1)·stride]. Equal
+	// lengths keep Eval's loop the same for every segment (with truncated
+	// lengths, points on random segments mispredicted its exit); the zero
+	// terms add exact zeros. stride is 16 when every segment is monomial.
 	cd         []float64
 	stride     int
 	xmin, xmax float64
@@ -686,11 +687,13 @@ func chebSolve(s, y []float64) []float64 {
 // measure returns the maximum relative error of segment s on its check grid.
 func (b *tableBuilder) measure(s *tableSegment, x, y []float64) float64 {
 	inv := 1 / (s.b - s.a)
-	cd := chebInterleave(nil, s.coeffs, 2*inv)
+	// Evaluate as the Table will (segmentEval), so that the measured
+	// error is the error of the values Eval returns.
+	cd := segmentCoefficients(nil, s.coeffs, 2*inv)
 	var worst float64
 	for i, xv := range x {
 		u := b.u(xv)
-		yy, _ := chebEval(cd, ((u-s.a)-(s.b-u))*inv)
+		yy, _ := segmentEval(cd, len(s.coeffs), ((u-s.a)-(s.b-u))*inv)
 		got := b.o.YTransform.inverse(yy)
 		e := math.Abs(got - y[i])
 		if y[i] != 0 {
@@ -717,6 +720,85 @@ func chebValue(c []float64, s float64) float64 {
 		return 0
 	}
 	return c[0] + s*b1 - b2
+}
+
+// monoTerms is the largest number of Chebyshev terms a segment may have
+// to be evaluated in the monomial form (see segmentCoefficients).
+const monoTerms = 8
+
+// chebMono[j][k] is the coefficient of s^k in T_j(s) (exact integers).
+var chebMono = [monoTerms][monoTerms]float64{
+	{1},
+	{0, 1},
+	{-1, 0, 2},
+	{0, -3, 0, 4},
+	{1, 0, -8, 0, 8},
+	{0, 5, 0, -20, 0, 16},
+	{-1, 0, 18, 0, -48, 0, 32},
+	{0, -7, 0, 56, 0, -112, 0, 64},
+}
+
+// segmentCoefficients appends to dst the evaluation coefficients of one
+// segment with Chebyshev coefficients c and derivative scale (2/width in
+// u). A segment of up to monoTerms terms is converted to the monomial
+// basis in s, a_k with Σ a_k s^k = Σ c_k T_k(s), interleaved with the
+// derivative's b_k = (k+1)·a_{k+1}·scale and padded with zeros to 2·monoTerms
+// values: its evaluation (monoEval, Estrin's scheme) needs a third of the
+// operations of the Chebyshev recurrence and has a short dependency chain.
+// On [−1, 1] the conversion costs at most a few units in the last place for
+// the smooth, fast-decaying series tables hold (the monomial coefficients
+// of T_7 reach 112). Longer segments keep the Chebyshev form
+// (chebInterleave), whose monomial coefficients would grow as 2^k. The
+// conversion is a fixed sequence of operations, so every process that loads
+// the same table gets the same bits.
+func segmentCoefficients(dst, c []float64, scale float64) []float64 {
+	if len(c) > monoTerms {
+		return chebInterleave(dst, c, scale)
+	}
+	var a [monoTerms]float64
+	for k := range a {
+		for j := k; j < len(c); j++ {
+			if m := chebMono[j][k]; m != 0 {
+				a[k] += c[j] * m
+			}
+		}
+	}
+	for k := range a {
+		b := 0.0
+		if k+1 < monoTerms {
+			b = float64(k+1) * a[k+1] * scale
+		}
+		dst = append(dst, a[k], b)
+	}
+	return dst
+}
+
+// segmentEval evaluates at s the coefficients cd that
+// segmentCoefficients made of a segment of the given number of terms.
+func segmentEval(cd []float64, terms int, s float64) (y, dy float64) {
+	if terms <= monoTerms {
+		return monoEval((*[2 * monoTerms]float64)(cd), s)
+	}
+	return chebEval(cd, s)
+}
+
+// monoEval returns Σ a_k s^k and Σ b_k s^k for the interleaved monomial
+// coefficients c of segmentCoefficients (c[2k] = a_k, c[2k+1] = b_k), by
+// Estrin's scheme: pairs, then pairs of pairs in s², then s⁴.
+func monoEval(c *[2 * monoTerms]float64, s float64) (y, dy float64) {
+	s2 := s * s
+	s4 := s2 * s2
+	y01 := c[0] + c[2]*s
+	d01 := c[1] + c[3]*s
+	y23 := c[4] + c[6]*s
+	d23 := c[5] + c[7]*s
+	y45 := c[8] + c[10]*s
+	d45 := c[9] + c[11]*s
+	y67 := c[12] + c[14]*s
+	d67 := c[13] + c[15]*s
+	y = (y01 + y23*s2) + (y45+y67*s2)*s4
+	dy = (d01 + d23*s2) + (d45+d67*s2)*s4
+	return y, dy
 }
 
 // chebInterleave appends to dst the coefficients c interleaved with those
@@ -875,7 +957,7 @@ func newTable(d TableData, quantity, unit string) (*Table, error) {
 		maxRel:   d.MaxRelError,
 		quantity: quantity, unit: unit,
 	}
-	terms := 4 // at least T_0…T_3, as Eval's unrolled start reads them
+	terms := monoTerms // every segment's slot holds at least the monomial form
 	for i := 0; i < nseg; i++ {
 		terms = max(terms, int(t.offsets[i+1]-t.offsets[i]))
 	}
@@ -890,7 +972,7 @@ func newTable(d TableData, quantity, unit string) (*Table, error) {
 		}
 		t.invWidth[i] = 1 / w
 		minW = math.Min(minW, w)
-		t.cd = chebInterleave(t.cd, t.coeffs[t.offsets[i]:t.offsets[i+1]], 2*t.invWidth[i])
+		t.cd = segmentCoefficients(t.cd, t.coeffs[t.offsets[i]:t.offsets[i+1]], 2*t.invWidth[i])
 		t.cd = append(t.cd, make([]float64, (i+1)*t.stride-len(t.cd))...)
 	}
 	full := t.breaks[nseg] - t.breaks[0]
@@ -1021,58 +1103,11 @@ func (t *Table) eval(x float64) (y, dydx float64) {
 	}
 	s := ((u - t.breaks[i]) - (t.breaks[i+1] - u)) * t.invWidth[i]
 	var yy, dyu float64
-	if t.stride == 16 {
-		// Eight terms (the default node count): the loop below unrolled
-		// over a fixed-size array, without its bounds checks; the same
-		// operations in the same order.
-		c := (*[16]float64)(t.cd[i*16 : i*16+16])
-		w := 2*s*s - 1
-		w2 := 2 * w
-		t3 := s * (w2 - 1)
-		ye, de := c[0]+c[4]*w, c[1]+c[5]*w
-		yo, do := c[2]*s, c[3]*s
-		yo += c[6] * t3
-		do += c[7] * t3
-		t4 := w2*w - 1
-		t5 := w2*t3 - s
-		ye += c[8] * t4
-		de += c[9] * t4
-		yo += c[10] * t5
-		do += c[11] * t5
-		t6 := w2*t4 - w
-		t7 := w2*t5 - t3
-		ye += c[12] * t6
-		de += c[13] * t6
-		yo += c[14] * t7
-		do += c[15] * t7
-		yy, dyu = ye+yo, de+do
+	if t.stride == 2*monoTerms {
+		yy, dyu = monoEval((*[2 * monoTerms]float64)(t.cd[i*(2*monoTerms):i*(2*monoTerms)+2*monoTerms]), s)
 	} else {
 		cd := t.cd[i*t.stride : (i+1)*t.stride]
-		// chebEval inlined over the zero-padded terms (the same
-		// operations in the same order plus exact zeros, so the
-		// build-time error measurement holds for Eval).
-		m := len(cd) / 2
-		w := 2*s*s - 1
-		w2 := 2 * w
-		e0, e1 := 1.0, w
-		o0, o1 := s, s*(w2-1)
-		ye, de := cd[0]+cd[4]*e1, cd[1]+cd[5]*e1
-		yo, do := cd[2]*o0, cd[3]*o0
-		yo += cd[6] * o1
-		do += cd[7] * o1
-		k := 4
-		for ; k+1 < m; k += 2 {
-			p := cd[2*k : 2*k+4]
-			e2 := w2*e1 - e0
-			o2 := w2*o1 - o0
-			ye += p[0] * e2
-			de += p[1] * e2
-			yo += p[2] * o2
-			do += p[3] * o2
-			e0, e1 = e1, e2
-			o0, o1 = o1, o2
-		}
-		yy, dyu = ye+yo, de+do
+		yy, dyu = segmentEval(cd[:2*max(monoTerms, int(t.offsets[i+1]-t.offsets[i]))], int(t.offsets[i+1]-t.offsets[i]), s)
 	}
 	if math.IsInf(dudx, 0) {
 		// x = x_ref of a critical-root table: the slope is infinite (or 0

@@ -92,7 +92,7 @@ func BenchmarkTablePoints(b *testing.B) {
 	})
 }
 
-// Eval's padded, unrolled evaluation gives the values of chebEval on each
+// Eval's padded evaluation gives the values of segmentEval on each
 // segment's own (truncated) coefficients, the evaluation BuildTable
 // measures its error with, so the measured maximum error holds for Eval.
 // Checked on the P(T) and T(P) tables of every published branch of water
@@ -127,8 +127,9 @@ func TestEvalMatchesBuildEvaluation(t *testing.T) {
 				ux := u(x)
 				i := tab.segment(ux)
 				inv := tab.invWidth[i]
-				cd := chebInterleave(nil, tab.coeffs[tab.offsets[i]:tab.offsets[i+1]], 2*inv)
-				yy, _ := chebEval(cd, ((ux-tab.breaks[i])-(tab.breaks[i+1]-ux))*inv)
+				c := tab.coeffs[tab.offsets[i]:tab.offsets[i+1]]
+				cd := segmentCoefficients(nil, c, 2*inv)
+				yy, _ := segmentEval(cd, len(c), ((ux-tab.breaks[i])-(tab.breaks[i+1]-ux))*inv)
 				if want := tab.yt.inverse(yy); got != want {
 					t.Fatalf("%s at x = %.17g (segment %d, %d terms): Eval %.17g, build evaluation %.17g",
 						br.name, x, i, tab.offsets[i+1]-tab.offsets[i], got, want)
