@@ -126,8 +126,8 @@ type Report struct {
 	GOMAXPROCS    int    `json:"gomaxprocs"`
 	GoVersion     string `json:"go_version"`
 
-	DirectNs     float64 `json:"direct_ns_per_point"`
-	TableNs      float64 `json:"table_ns_per_point"`
+	DirectNs float64 `json:"direct_ns_per_point"`
+	TableNs  float64 `json:"table_ns_per_point"`
 	// TableBatchNs is the table evaluated a whole batch at a time
 	// (thermo.TablePoints, one goroutine), as the server's table pass
 	// and a client's local batch evaluation do.
@@ -243,8 +243,8 @@ type FamilyReport struct {
 	TableNs      float64 `json:"table_ns_per_point"`
 	TableBatchNs float64 `json:"table_batch_ns_per_point"`
 	RPCBatchNs   float64 `json:"rpc_batch_ns_per_point"`
-	EchoFloorNs float64 `json:"echo_floor_ns_per_point"`
-	ExactNs     float64 `json:"exact_ns_per_point"`
+	EchoFloorNs  float64 `json:"echo_floor_ns_per_point"`
+	ExactNs      float64 `json:"exact_ns_per_point"`
 
 	TableMaxRelError       float64 `json:"table_max_rel_error"`
 	TableMaxRelErrorSlope  float64 `json:"table_max_rel_error_slope"`
