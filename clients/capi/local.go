@@ -188,7 +188,15 @@ func (ts *tableSet) evaluate(kind thermo.CurveKind, branch string, byT bool, xs 
 		fi = 0
 	}
 	nan := math.NaN()
-	for i, x := range xs {
+	var scratch [3][runPoints]float64
+	for i := 0; i < len(xs); i++ {
+		if fi >= 0 {
+			if k := ts.fastRun(lc, fi, byT, xs, i, out, &scratch); k > 0 {
+				i += k - 1
+				continue
+			}
+		}
+		x := xs[i]
 		var pt thermo.CurvePoint
 		var err error
 		ok := false
@@ -236,6 +244,37 @@ func (ts *tableSet) evaluate(kind thermo.CurveKind, branch string, byT bool, xs 
 		}
 	}
 	return failed, first, nil
+}
+
+// runPoints is the most points fastRun takes at once.
+const runPoints = 256
+
+// fastRun evaluates a run of points from xs[i] on branch fi's tables in one
+// batch (thermo.TablePoints, the server's fast loop, with the same values
+// as fastPoint) and fills out and the latent heats; it stops at a point
+// the tables cannot take there, which the caller evaluates one by one, and
+// returns the number of points it filled. Outputs the caller did not ask
+// for go to scratch.
+func (ts *tableSet) fastRun(lc *localCurve, fi int, byT bool, xs []float64, i int, out outputs, scratch *[3][runPoints]float64) int {
+	end := min(len(xs), i+runPoints)
+	pick := func(dst []float64, k int) []float64 {
+		if dst != nil {
+			return dst[i:end]
+		}
+		return scratch[k][:end-i]
+	}
+	t, p, d := pick(out.T, 0), pick(out.P, 1), pick(out.D, 2)
+	b := &lc.branches[fi]
+	k := thermo.TablePoints(b.pOfT, b.tOfP, b.rng, xs[i:end], byT, t, p, d)
+	for j := 0; j < k; j++ {
+		if out.Status != nil {
+			out.Status[i+j] = statusOK
+		}
+		if out.Latent != nil {
+			out.Latent[i+j] = ts.latentPerKg(lc, thermo.CurvePoint{Temperature: t[j], Pressure: p[j], Slope: d[j], Branch: fi})
+		}
+	}
+	return k
 }
 
 // fastPoint evaluates x on the branch's tables when x lies inside its

@@ -371,3 +371,72 @@ func BenchmarkLocalEvaluate(b *testing.B) {
 		})
 	}
 }
+
+// The batched local path (fastRun, runs of up to runPoints points) gives
+// the values of one-point calls bit for bit, including around points it
+// cannot take (NaN, out of range, a point on another branch of the
+// melting curve) inside a run, at run boundaries, and with outputs the
+// caller did not ask for.
+func TestBatchedLocalMatchesPointwise(t *testing.T) {
+	t.Parallel()
+	ts, err := newTableSet("water", testExport(t))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct {
+		name   string
+		kind   thermo.CurveKind
+		branch string
+		byT    bool
+		lo, hi float64
+	}{
+		{"saturation P(T)", thermo.Saturation, "", true, 273.16, 647.096},
+		{"saturation T(P)", thermo.Saturation, "", false, 611.7, 22.06e6},
+		{"melting branch a P(T)", thermo.Melting, "a", true, 250, 260},
+		{"melting branch a T(P)", thermo.Melting, "a", false, 2e5, 6e7},
+	} {
+		const n = 3*runPoints + 17
+		xs := make([]float64, n)
+		for i := range xs {
+			xs[i] = tc.lo + (tc.hi-tc.lo)*float64((i*389)%n)/n
+		}
+		// Bad points inside runs and at run boundaries.
+		xs[5], xs[runPoints-1], xs[runPoints], xs[2*runPoints+3] = math.NaN(), -1, 1e30, tc.hi*1.5
+		for _, latent := range []bool{false, true} {
+			all := outputs{T: make([]float64, n), P: make([]float64, n), D: make([]float64, n), Status: make([]int32, n)}
+			some := outputs{P: make([]float64, n), Status: make([]int32, n)}
+			if latent {
+				all.Latent, some.Latent = make([]float64, n), make([]float64, n)
+			}
+			fa, _, err := ts.evaluate(tc.kind, tc.branch, tc.byT, xs, all)
+			if err != nil {
+				t.Fatal(err)
+			}
+			fs, _, err := ts.evaluate(tc.kind, tc.branch, tc.byT, xs, some)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if fa != 4 || fs != 4 {
+				t.Errorf("%s: %d and %d failed points, want 4", tc.name, fa, fs)
+			}
+			for i, x := range xs {
+				one := outputs{T: []float64{0}, P: []float64{0}, D: []float64{0}, Status: []int32{0}}
+				if latent {
+					one.Latent = []float64{0}
+				}
+				if _, _, err := ts.evaluate(tc.kind, tc.branch, tc.byT, []float64{x}, one); err != nil {
+					t.Fatal(err)
+				}
+				same := func(a, b float64) bool { return math.Float64bits(a) == math.Float64bits(b) || (math.IsNaN(a) && math.IsNaN(b)) }
+				if !same(all.T[i], one.T[0]) || !same(all.P[i], one.P[0]) || !same(all.D[i], one.D[0]) || all.Status[i] != one.Status[0] ||
+					!same(some.P[i], one.P[0]) || some.Status[i] != one.Status[0] {
+					t.Fatalf("%s latent=%v point %d (%g): batch (%g, %g, %g, %d), partial (%g, %d), one (%g, %g, %g, %d)", tc.name, latent, i, x,
+						all.T[i], all.P[i], all.D[i], all.Status[i], some.P[i], some.Status[i], one.T[0], one.P[0], one.D[0], one.Status[0])
+				}
+				if latent && (!same(all.Latent[i], one.Latent[0]) || !same(some.Latent[i], one.Latent[0])) {
+					t.Fatalf("%s point %d (%g): latent %g / %g, one %g", tc.name, i, x, all.Latent[i], some.Latent[i], one.Latent[0])
+				}
+			}
+		}
+	}
+}
