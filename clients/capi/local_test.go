@@ -427,7 +427,9 @@ func TestBatchedLocalMatchesPointwise(t *testing.T) {
 				if _, _, err := ts.evaluate(tc.kind, tc.branch, tc.byT, []float64{x}, one); err != nil {
 					t.Fatal(err)
 				}
-				same := func(a, b float64) bool { return math.Float64bits(a) == math.Float64bits(b) || (math.IsNaN(a) && math.IsNaN(b)) }
+				same := func(a, b float64) bool {
+					return math.Float64bits(a) == math.Float64bits(b) || (math.IsNaN(a) && math.IsNaN(b))
+				}
 				if !same(all.T[i], one.T[0]) || !same(all.P[i], one.P[0]) || !same(all.D[i], one.D[0]) || all.Status[i] != one.Status[0] ||
 					!same(some.P[i], one.P[0]) || some.Status[i] != one.Status[0] {
 					t.Fatalf("%s latent=%v point %d (%g): batch (%g, %g, %g, %d), partial (%g, %d), one (%g, %g, %g, %d)", tc.name, latent, i, x,
