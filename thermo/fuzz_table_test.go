@@ -71,6 +71,24 @@ func FuzzTable(f *testing.F) {
 			if n := testing.AllocsPerRun(3, func() { _, _, _ = tb.Eval(0.5 * (lo + hi)) }); n != 0 {
 				t.Fatalf("Eval allocates %v", n)
 			}
+			// The batch loop (two points at a time on identity tables)
+			// gives TablePoint's values and stops where it refuses.
+			r := Range{Tmin: lo, Tmax: hi}
+			xs := []float64{0.5 * (lo + hi), lo, hi, x, 0.25*lo + 0.75*hi, x}
+			ts, ps, ds := make([]float64, len(xs)), make([]float64, len(xs)), make([]float64, len(xs))
+			k := TablePoints(tb, nil, r, xs, true, ts, ps, ds)
+			same := func(a, b float64) bool { return math.Float64bits(a) == math.Float64bits(b) || (math.IsNaN(a) && math.IsNaN(b)) }
+			for j := 0; j < k; j++ {
+				pt, ok := TablePoint(tb, nil, r, xs[j], true, 0)
+				if !ok || !same(ts[j], pt.Temperature) || !same(ps[j], pt.Pressure) || !same(ds[j], pt.Slope) {
+					t.Fatalf("TablePoints at %g: (%g, %g, %g), TablePoint (%g, %g, %g) ok %v", xs[j], ts[j], ps[j], ds[j], pt.Temperature, pt.Pressure, pt.Slope, ok)
+				}
+			}
+			if k < len(xs) {
+				if _, ok := TablePoint(tb, nil, r, xs[k], true, 0); ok {
+					t.Fatalf("TablePoints stopped at %g, which TablePoint takes", xs[k])
+				}
+			}
 		}
 		if !build || !(xmin < xmax) || xmax-xmin > 1e6 || math.Abs(xmin) > 1e6 {
 			return
