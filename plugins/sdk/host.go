@@ -28,6 +28,12 @@ const (
 	DefaultMinBackoff   = 200 * time.Millisecond
 	DefaultMaxBackoff   = 30 * time.Second
 	DefaultStartTimeout = 30 * time.Second
+	// A running backend is asked every DefaultPingInterval to describe
+	// itself; one that has not answered DefaultPingFailures times in a row
+	// within DefaultPingTimeout each is hung: it is killed and restarted.
+	DefaultPingInterval = 10 * time.Second
+	DefaultPingTimeout  = 5 * time.Second
+	DefaultPingFailures = 3
 )
 
 // stableAfter is how long a backend must have run for its next crash to
@@ -69,6 +75,15 @@ type HostConfig struct {
 	// OnRestart, if set, is called after each successful restart of a
 	// backend that had exited (for metrics). It must not block.
 	OnRestart func(backend string)
+	// PingInterval, PingTimeout and PingFailures detect a backend that is
+	// alive but no longer answers (deadlocked, stopped, starved): it is
+	// asked to describe itself every PingInterval, and after PingFailures
+	// unanswered asks in a row, each given PingTimeout, it is killed and
+	// restarted like one that exited. A long evaluation does not count:
+	// the backend answers the ask on another goroutine. Zero means the
+	// defaults (10 s, 5 s, 3); a negative PingInterval turns the check off.
+	PingInterval, PingTimeout time.Duration
+	PingFailures              int
 }
 
 // BackendSpec names a backend to start.
@@ -89,6 +104,7 @@ type Host struct {
 	log      *slog.Logger
 	hclog    hclog.Logger
 	restarts atomic.Uint64
+	hung     atomic.Uint64
 
 	mu        sync.Mutex
 	closed    bool
@@ -115,6 +131,15 @@ func NewHost(cfg HostConfig) *Host {
 	if cfg.StartTimeout <= 0 {
 		cfg.StartTimeout = DefaultStartTimeout
 	}
+	if cfg.PingInterval == 0 {
+		cfg.PingInterval = DefaultPingInterval
+	}
+	if cfg.PingTimeout <= 0 {
+		cfg.PingTimeout = DefaultPingTimeout
+	}
+	if cfg.PingFailures <= 0 {
+		cfg.PingFailures = DefaultPingFailures
+	}
 	return &Host{
 		cfg:   cfg,
 		log:   cfg.Logger,
@@ -126,6 +151,10 @@ func NewHost(cfg HostConfig) *Host {
 
 // Restarts returns how many times backends that exited have been restarted.
 func (h *Host) Restarts() uint64 { return h.restarts.Load() }
+
+// Hung returns how many times a backend was killed for not answering (see
+// HostConfig.PingInterval); each is then restarted and counted by Restarts.
+func (h *Host) Hung() uint64 { return h.hung.Load() }
 
 // Backends returns the names of the started backends, sorted.
 func (h *Host) Backends() []string {

@@ -634,3 +634,50 @@ func TestHostRefusesUnknownStandardBackend(t *testing.T) {
 		t.Fatalf("err = %v, want a refusal listing the standard backends", err)
 	}
 }
+
+// TestHostRestartsHungBackend stops a backend with SIGSTOP: alive, but it
+// answers nothing. The supervisor's pings go unanswered, it kills the
+// process and starts a new one; a call in flight fails with
+// ErrBackendUnavailable (never a value), and calls succeed again. A slow
+// call on a backend that still answers pings restarts nothing
+// (TestHostDeadline).
+func TestHostRestartsHungBackend(t *testing.T) {
+	h := newTestHost(t, HostConfig{PingInterval: 100 * time.Millisecond, PingTimeout: 300 * time.Millisecond, PingFailures: 3})
+	ctx := context.Background()
+	if err := h.Start(ctx, BackendSpec{Name: "stuck"}); err != nil {
+		t.Fatal(err)
+	}
+	line := EvalRequest{Family: "test-line", Params: lineParams, Tmin: 200, Tmax: 300, Op: OpPressure, Values: []float64{250}}
+	if _, err := h.Evaluate(ctx, "stuck", line); err != nil {
+		t.Fatal(err)
+	}
+	// Several ping rounds with a working backend restart nothing.
+	time.Sleep(600 * time.Millisecond)
+	if h.Hung() != 0 || h.Restarts() != 0 {
+		t.Fatalf("a healthy backend was killed: hung %d, restarts %d", h.Hung(), h.Restarts())
+	}
+	pid := currentPID(t, h, "stuck")
+	if err := syscall.Kill(pid, syscall.SIGSTOP); err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { _ = syscall.Kill(pid, syscall.SIGKILL) })
+	res, err := h.Evaluate(ctx, "stuck", line)
+	if !errors.Is(err, ErrBackendUnavailable) || res.Results != nil {
+		t.Fatalf("call to the stopped backend: %+v, %v; want ErrBackendUnavailable and no values", res, err)
+	}
+	if !waitFor(60*time.Second, func() bool { return h.Restarts() >= 1 }) {
+		t.Fatal("the stopped backend was not restarted")
+	}
+	if h.Hung() != 1 {
+		t.Errorf("Hung() = %d, want 1", h.Hung())
+	}
+	if newPID := currentPID(t, h, "stuck"); newPID == pid {
+		t.Errorf("restarted backend has the old pid %d", pid)
+	}
+	if res, err := h.Evaluate(ctx, "stuck", line); err != nil || res.Results[0] != 13500 {
+		t.Fatalf("after the restart: %+v, %v", res, err)
+	}
+	if !waitFor(60*time.Second, func() bool { return processGone(pid) }) {
+		t.Errorf("the stopped backend %d was not reaped", pid)
+	}
+}

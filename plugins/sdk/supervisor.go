@@ -199,7 +199,9 @@ func (s *supervisor) run(inst *instance) {
 			inst.client.Kill()
 			return
 		}
-		close(inst.dead)
+		if !inst.isDead() {
+			close(inst.dead)
+		}
 		uptime := time.Since(inst.started)
 		inst.client.Kill() // reap, end go-plugin's goroutines
 		if inst.socket != "" {
@@ -239,10 +241,19 @@ func (s *supervisor) run(inst *instance) {
 	}
 }
 
-// waitExit returns true when inst's process has exited, false on shutdown.
+// waitExit returns true when inst's process has exited (or was killed for
+// not answering), false on shutdown.
 func (s *supervisor) waitExit(inst *instance) bool {
 	t := time.NewTicker(exitPollInterval)
 	defer t.Stop()
+	cfg := s.h.cfg
+	var ping <-chan time.Time
+	if cfg.PingInterval > 0 {
+		pt := time.NewTicker(cfg.PingInterval)
+		defer pt.Stop()
+		ping = pt.C
+	}
+	missed := 0
 	for {
 		if inst.client.Exited() {
 			return true
@@ -251,8 +262,38 @@ func (s *supervisor) waitExit(inst *instance) bool {
 		case <-s.stop:
 			return false
 		case <-t.C:
+		case <-ping:
+			if s.answers(inst) {
+				missed = 0
+				continue
+			}
+			missed++
+			if missed < cfg.PingFailures {
+				continue
+			}
+			s.h.log.Error("backend does not answer; killing it", "backend", s.spec.Name, "pid", inst.pid,
+				"unanswered", missed, "timeout", cfg.PingTimeout)
+			s.h.hung.Add(1)
+			close(inst.dead) // calls in flight report ErrBackendUnavailable now
+			// Kill the process first: go-plugin's Kill asks the backend to
+			// shut down over RPC before it signals, and a hung backend
+			// never answers that. run reaps it through Kill afterwards.
+			if inst.pid > 0 {
+				if p, err := os.FindProcess(inst.pid); err == nil {
+					_ = p.Kill()
+				}
+			}
+			return true
 		}
 	}
+}
+
+// answers reports whether inst describes itself within the ping timeout.
+func (s *supervisor) answers(inst *instance) bool {
+	ctx, cancel := context.WithTimeout(s.ctx, s.h.cfg.PingTimeout)
+	defer cancel()
+	_, err := inst.rpc.Describe(ctx, &pluginpb.DescribeRequest{})
+	return err == nil || s.ctx.Err() != nil
 }
 
 // shutdown stops supervision and kills the running process.

@@ -80,7 +80,7 @@ func New() *Metrics {
 		}),
 		pluginRestarts: prometheus.NewCounterVec(prometheus.CounterOpts{
 			Name: "phasebound_plugin_restarts_total",
-			Help: "Backend plugin processes restarted after they exited or failed, by backend.",
+			Help: "Backend plugin processes restarted after they exited, failed or stopped answering, by backend.",
 		}, []string{"backend"}),
 		tableBuild: prometheus.NewGaugeVec(prometheus.GaugeOpts{
 			Name: "phasebound_table_build_seconds",
