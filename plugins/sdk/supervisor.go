@@ -128,7 +128,10 @@ func (s *supervisor) launch(ctx context.Context) (*instance, error) {
 		VersionedPlugins: pluginSets(nil),
 		Cmd:              cmd,
 		SecureConfig:     &plugin.SecureConfig{Checksum: sum, Hash: sha256.New()},
-		Managed:          true,
+		// Not Managed: go-plugin would keep every managed client in a
+		// global list for CleanupClients, one more per restart, for the
+		// life of the process. The supervisor kills its own clients.
+		Managed:          false,
 		AllowedProtocols: []plugin.Protocol{plugin.ProtocolGRPC},
 		StartTimeout:     h.cfg.StartTimeout,
 		Logger:           h.hclog.Named(name),
