@@ -324,7 +324,11 @@ func (linearTicks) Ticks(min, max float64) []gp.Tick {
 	for v := math.Ceil(min/minor) * minor; v <= max+1e-9*span; v += minor {
 		label := ""
 		if r := math.Mod(math.Abs(v), step); r < 1e-6*step || step-r < 1e-6*step {
-			label = strconv.FormatFloat(math.Round(v/minor)*minor, 'g', 6, 64)
+			x := math.Round(v/minor) * minor
+			if x == 0 {
+				x = 0 // not "-0" when the axis starts a hair below zero
+			}
+			label = strconv.FormatFloat(x, 'g', 6, 64)
 		}
 		ticks = append(ticks, gp.Tick{Value: v, Label: label})
 	}
