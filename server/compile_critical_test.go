@@ -24,6 +24,13 @@ func criticalServer(t *testing.T) (pb.BoundaryServiceClient, string) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	return serveCatalog(t, cat)
+}
+
+// serveCatalog serves cat on loopback for the test and returns a client
+// and the warnings logged while compiling it.
+func serveCatalog(t *testing.T, cat *catalog.Catalog) (pb.BoundaryServiceClient, string) {
+	t.Helper()
 	var logs bytes.Buffer
 	log := slog.New(slog.NewTextHandler(&logs, &slog.HandlerOptions{Level: slog.LevelWarn}))
 	srv, err := New(context.Background(), cat, Options{Logger: log})

@@ -70,17 +70,7 @@ func TestSublimationPressureTables(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	srv, err := New(ctx, cat, Options{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(srv.Close)
-	conn, err := dialServer(srv)
-	if err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(func() { conn.Close() })
-	wc := pb.NewBoundaryServiceClient(conn)
+	wc, _ := serveCatalog(t, cat)
 	ex, err := wc.ExportTables(ctx, &pb.ExportTablesRequest{Substance: "test-wide-sublimation"})
 	if err != nil {
 		t.Fatal(err)

@@ -77,7 +77,9 @@ func FuzzTable(f *testing.F) {
 			xs := []float64{0.5 * (lo + hi), lo, hi, x, 0.25*lo + 0.75*hi, x}
 			ts, ps, ds := make([]float64, len(xs)), make([]float64, len(xs)), make([]float64, len(xs))
 			k := TablePoints(tb, nil, r, xs, true, ts, ps, ds)
-			same := func(a, b float64) bool { return math.Float64bits(a) == math.Float64bits(b) || (math.IsNaN(a) && math.IsNaN(b)) }
+			same := func(a, b float64) bool {
+				return math.Float64bits(a) == math.Float64bits(b) || (math.IsNaN(a) && math.IsNaN(b))
+			}
 			for j := 0; j < k; j++ {
 				pt, ok := TablePoint(tb, nil, r, xs[j], true, 0)
 				if !ok || !same(ts[j], pt.Temperature) || !same(ps[j], pt.Pressure) || !same(ds[j], pt.Slope) {

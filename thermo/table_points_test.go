@@ -11,15 +11,7 @@ import (
 // saturation, Span-Wagner carbon dioxide), both ways.
 func TestTablePointsMatchesTablePoint(t *testing.T) {
 	for _, br := range tstRealBranches(t) {
-		po, to := DefaultTransforms(br.kind)
-		pt, err := BuildPressureTable(br.corr, po)
-		if err != nil {
-			t.Fatal(err)
-		}
-		tp, err := BuildTemperatureTable(br.corr, to)
-		if err != nil {
-			t.Fatal(err)
-		}
+		pt, tp := tstDefaultTables(t, br.kind, br.corr)
 		r := br.corr.Range()
 		for _, byT := range []bool{true, false} {
 			lo, hi := r.Pmin, r.Pmax
@@ -54,6 +46,22 @@ func TestTablePointsMatchesTablePoint(t *testing.T) {
 			}
 		}
 	}
+}
+
+// tstDefaultTables builds c's P(T) and T(P) tables with the default
+// transforms of kind k.
+func tstDefaultTables(t testing.TB, k CurveKind, c Correlation) (pOfT, tOfP *Table) {
+	t.Helper()
+	po, to := DefaultTransforms(k)
+	pOfT, err := BuildPressureTable(c, po)
+	if err != nil {
+		t.Fatal(err)
+	}
+	tOfP, err = BuildTemperatureTable(c, to)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return pOfT, tOfP
 }
 
 func sameBits(a, b float64) bool { return math.Float64bits(a) == math.Float64bits(b) }
@@ -100,15 +108,7 @@ func BenchmarkTablePoints(b *testing.B) {
 // points each.
 func TestEvalMatchesBuildEvaluation(t *testing.T) {
 	for _, br := range tstRealBranches(t) {
-		po, to := DefaultTransforms(br.kind)
-		pt, err := BuildPressureTable(br.corr, po)
-		if err != nil {
-			t.Fatal(err)
-		}
-		tp, err := BuildTemperatureTable(br.corr, to)
-		if err != nil {
-			t.Fatal(err)
-		}
+		pt, tp := tstDefaultTables(t, br.kind, br.corr)
 		for _, tab := range []*Table{pt, tp} {
 			var u func(x float64) float64
 			switch tab.xt {
