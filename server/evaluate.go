@@ -337,7 +337,9 @@ func (s *Server) tablePass(ctx context.Context, q *query, lo, hi int, p *part) {
 		var pt thermo.CurvePoint
 		var err error
 		ok := false
-		if fb != nil {
+		if fb != nil && exact {
+			// (Without exact, the fast loop has just refused this point,
+			// and TablePoint would too.)
 			pt, ok = thermo.TablePoint(fb.pOfT, fb.tOfP, fr, x, q.byT, fi)
 		}
 		switch {
