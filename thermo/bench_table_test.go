@@ -29,15 +29,7 @@ func benchPoints(lo, hi float64, n int, geo bool) []float64 {
 // ("direct") with the compiled table, one point per op: ns/op is ns/point.
 func BenchmarkTable(b *testing.B) {
 	for _, br := range tstRealBranches(b) {
-		po, to := DefaultTransforms(br.kind)
-		pt, err := BuildPressureTable(br.corr, po)
-		if err != nil {
-			b.Fatal(err)
-		}
-		tp, err := BuildTemperatureTable(br.corr, to)
-		if err != nil {
-			b.Fatal(err)
-		}
+		pt, tp := tstDefaultTables(b, br.kind, br.corr)
 		r := br.corr.Range()
 		ts := benchPoints(r.Tmin, r.Tmax, 1024, false)
 		ps := benchPoints(r.Pmin, r.Pmax, 1024, true)
@@ -148,15 +140,7 @@ func benchCompare(b *testing.B, xs []float64, direct, table func(x float64) floa
 // transforms DefaultTransforms recommends), and reports the ratio.
 func BenchmarkTableSpeedup(b *testing.B) {
 	for _, br := range tstRealBranches(b) {
-		po, to := DefaultTransforms(br.kind)
-		pt, err := BuildPressureTable(br.corr, po)
-		if err != nil {
-			b.Fatal(err)
-		}
-		tp, err := BuildTemperatureTable(br.corr, to)
-		if err != nil {
-			b.Fatal(err)
-		}
+		pt, tp := tstDefaultTables(b, br.kind, br.corr)
 		r := br.corr.Range()
 		ts := benchPoints(r.Tmin, r.Tmax, 1024, false)
 		ps := benchPoints(r.Pmin, r.Pmax, 1024, true)
