@@ -64,6 +64,21 @@ func waitFor(limit time.Duration, cond func() bool) bool {
 	return cond()
 }
 
+// selfExecutable returns the test binary, which serves as a backend, and
+// its SHA-256.
+func selfExecutable(t *testing.T) (path, sha string) {
+	t.Helper()
+	path, err := os.Executable()
+	if err != nil {
+		t.Fatal(err)
+	}
+	sha, err = FileSHA256(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return path, sha
+}
+
 func TestHostStartEvaluate(t *testing.T) {
 	h := newTestHost(t, HostConfig{})
 	ctx := context.Background()
@@ -120,17 +135,10 @@ func TestHostLargeBatch(t *testing.T) {
 }
 
 func TestHostRefusesChecksumMismatch(t *testing.T) {
-	exe, err := os.Executable()
-	if err != nil {
-		t.Fatal(err)
-	}
-	actual, err := FileSHA256(exe)
-	if err != nil {
-		t.Fatal(err)
-	}
+	exe, actual := selfExecutable(t)
 	wrong := strings.Repeat("0", 64)
 	h := newTestHost(t, HostConfig{})
-	err = h.Start(context.Background(), BackendSpec{Name: "intruder", Path: exe, SHA256: wrong})
+	err := h.Start(context.Background(), BackendSpec{Name: "intruder", Path: exe, SHA256: wrong})
 	var ce *ChecksumError
 	if !errors.As(err, &ce) {
 		t.Fatalf("err = %v, want a *ChecksumError", err)
@@ -195,14 +203,7 @@ func TestHostStandardBackendPinned(t *testing.T) {
 }
 
 func TestHostThirdPartyBackend(t *testing.T) {
-	exe, err := os.Executable()
-	if err != nil {
-		t.Fatal(err)
-	}
-	sum, err := FileSHA256(exe)
-	if err != nil {
-		t.Fatal(err)
-	}
+	exe, sum := selfExecutable(t)
 	// A third-party backend runs with the host's environment: this tells
 	// the test binary which backend to be.
 	t.Setenv(backendEnv, "lab-fits")
@@ -581,14 +582,7 @@ func TestHostNeverReturnsWrongValues(t *testing.T) {
 }
 
 func TestHostStartReplacesBackend(t *testing.T) {
-	exe, err := os.Executable()
-	if err != nil {
-		t.Fatal(err)
-	}
-	sum, err := FileSHA256(exe)
-	if err != nil {
-		t.Fatal(err)
-	}
+	exe, sum := selfExecutable(t)
 	t.Setenv(backendEnv, "swapped")
 	h := newTestHost(t, HostConfig{})
 	ctx := context.Background()
