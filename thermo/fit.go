@@ -88,7 +88,8 @@ type FitResult struct {
 	Values []float64
 	// StdErr holds the standard errors of the fitted parameters, shaped
 	// like Params (a list parameter gets a list); nil when they cannot be
-	// estimated (as many points as parameters, or a singular Jacobian).
+	// estimated (as many points as parameters, a singular Jacobian, or
+	// errors beyond floating-point range).
 	StdErr Params
 	// Correlation is the correlation matrix of the fitted parameters in
 	// Names order; nil when StdErr is nil.
@@ -398,6 +399,12 @@ func (res *FitResult) statistics(sol *LMResult, m *fitModel) {
 	se := make([]float64, np)
 	for a := range np {
 		se[a] = math.Sqrt(cov[a][a])
+		if math.IsInf(se[a], 0) || math.IsNaN(se[a]) {
+			// Deviations or sensitivities beyond floating-point range
+			// (data of wildly different magnitudes): no honest number.
+			res.Warnings = append(res.Warnings, fmt.Sprintf("the standard error of %s is beyond floating-point range; no standard errors (the fit says nothing about its parameters' uncertainty)", m.names[a]))
+			return
+		}
 	}
 	res.Correlation = make([][]float64, np)
 	for a := range np {
